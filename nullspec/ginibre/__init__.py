@@ -1,0 +1,24 @@
+"""Exact finite-N results for the real Ginibre ensemble.
+
+The real Ginibre ensemble is the law of an ``n x n`` real matrix with i.i.d. N(0, 1) entries.  This
+subpackage evaluates, with no simulation and for ``n`` from 1 up to about ``10**6``:
+
+- the number of real eigenvalues: its mean, variance and full probability mass function
+  (:func:`real_count_mean`, :func:`real_count_var`, :func:`real_count_pmf`);
+- the mean densities of the real and of the non-real eigenvalues
+  (:func:`real_density`, :func:`complex_density`);
+- expected counts of eigenvalues by modulus (:func:`expected_within`, :func:`expected_outside`);
+- the law of the spectral radius (:func:`spectral_radius_sf`, :func:`spectral_radius_isf`).
+
+All functions take the matrix size ``n`` and arguments in the units of unit-variance entries (the
+bulk of the spectrum fills the disk of radius ``sqrt(n)``).  The layer is pure: numpy and
+scipy.special only, no I/O, no randomness.
+"""
+
+# Each module adds its public names below (one import line per module).
+# -- real_count --
+# -- densities --
+# -- radial --
+# -- edge --
+
+__all__ = [name for name in dir() if not name.startswith("_")]
