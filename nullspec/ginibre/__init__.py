@@ -18,7 +18,10 @@ scipy.special only, no I/O, no randomness.
 # Each module adds its public names below (one import line per module).
 # -- real_count --
 # -- densities --
+from .densities import complex_density, real_density
 # -- radial --
+from .radial import expected_outside, expected_within, modulus_cdf
 # -- edge --
+from .edge import spectral_radius_bound, spectral_radius_isf, spectral_radius_sf
 
 __all__ = [name for name in dir() if not name.startswith("_")]
