@@ -10,10 +10,10 @@ def _state(ss):
     return ss.generate_state(4).tolist()
 
 
-@pytest.mark.parametrize("seed", [0, 42, np.int64(42), 2**100, [1, 2, 3], (7, 8), np.array([4, 5])])
-def test_integer_seeds_match_numpy_seed_sequence(seed):
-    # reference: numpy's own SeedSequence(seed)
-    assert _state(as_seed_sequence(seed)) == _state(np.random.SeedSequence(seed))
+@pytest.mark.parametrize("value", [0, 42, np.int64(42), 2**100, [1, 2, 3], (7, 8), np.array([4, 5])])
+def test_integer_seeds_match_numpy_seed_sequence(value):
+    # reference: numpy's own SeedSequence(value)
+    assert _state(as_seed_sequence(value)) == _state(np.random.SeedSequence(value))
 
 
 def test_integer_seed_entropy_is_plain_python():
