@@ -21,6 +21,7 @@ matrix ``A - c 1 1^T``.
 from dataclasses import dataclass
 
 import numpy as np
+import scipy.linalg
 from scipy import stats
 
 from ._validation import as_square_matrix, check_option, check_option_or_real, check_scale_estimate
@@ -95,7 +96,8 @@ def _scale_value(entries, c, center, scale):
         sigma = stats.median_abs_deviation(entries, scale="normal")
     else:
         ddof = 1 if center == "mean" else 0
-        sigma = np.sqrt(np.sum((entries - c) ** 2) / (entries.size - ddof))
+        # BLAS nrm2 scales as it sums, so entries up to ~1e300 do not overflow when squared.
+        sigma = scipy.linalg.norm(entries - c, check_finite=False) / np.sqrt(entries.size - ddof)
     return check_scale_estimate(sigma, scale)
 
 
@@ -150,8 +152,9 @@ def standardize(matrix, *, center="mean", scale="sd", diagonal="include"):
     scale = check_option_or_real(scale, "scale", SCALES, positive=True)
     diagonal = check_option(diagonal, "diagonal", DIAGONALS)
     entries = _estimation_entries(a, diagonal)
-    c = _center_value(entries, center)
-    sigma = _scale_value(entries, c, center, scale)
+    with np.errstate(over="ignore", invalid="ignore"):  # an overflow gives inf: refused just below
+        c = _center_value(entries, center)
+        sigma = _scale_value(entries, c, center, scale)
     shift = float(np.mean(np.diag(a)) - c) if diagonal == "shift" else 0.0
     a -= c
     a[np.diag_indices_from(a)] -= shift
