@@ -125,7 +125,8 @@ def read_matrix(path, *, format=None, delimiter=None, header="auto", index_col="
         If the file is missing, a directory, unreadable, empty or of an unknown type; if an option does
         not apply to the format; if a text table has ragged rows or cells that are not numbers; if an
         archive key is missing or ambiguous; if the memory guard is exceeded; or if the matrix is not
-        square, real, finite, at least 3 x 3 and non-constant.  Every message starts with the source.
+        square, real, finite, at least 3 x 3 and non-constant.  Messages about the file start with
+        its name (``<stdin>`` for standard input).
 
     Notes
     -----
