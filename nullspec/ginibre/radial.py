@@ -31,8 +31,9 @@ One regime, composite Gauss-Legendre quadrature of f_n:
   above it (for G), plus the cumulative sum on that side.  The tail G is always summed directly,
   never formed as ``n - F``, so tiny tails keep their relative accuracy;
 - beyond the grid end the tail is integrated on ``[r, r + 2]`` (the integrand's log-derivative there
-  exceeds 20, so the rest is below 1e-17 relative), and F is the grid total: the mass left beyond
-  ``sqrt(n) + 20`` is below 1e-90 of ``n``.
+  exceeds 20, so the rest is below 1e-17 relative); the same window at the grid end seeds the
+  cumulative tail sums.  F beyond the grid is the grid total: the mass left beyond ``sqrt(n) + 20`` is
+  below 1e-90 of ``n``.
 
 The non-real integrand uses ``1 - erfcx(u) = exp(u**2) erf(u) - expm1(u**2)`` for ``u < 1`` to avoid the
 cancellation of ``1 - erfcx(u)`` near the origin.
@@ -107,9 +108,10 @@ def _grid(n):
     n_panels = int(np.ceil((np.sqrt(n) + _REACH) / _PANEL))
     edges = np.arange(n_panels + 1) * _PANEL
     parts = _panel_integrals(edges[:-1], edges[1:], n)
-    zero = np.zeros((2, 1))
-    below = np.concatenate([zero, np.cumsum(parts, axis=1)], axis=1)
-    above = np.concatenate([np.cumsum(parts[:, ::-1], axis=1)[:, ::-1], zero], axis=1)
+    below = np.concatenate([np.zeros((2, 1)), np.cumsum(parts, axis=1)], axis=1)
+    # The tails start from the mass beyond the grid end, so G keeps its relative accuracy up to the end.
+    beyond = _far_tail(edges[-1:], n)
+    above = np.concatenate([np.cumsum(parts[:, ::-1], axis=1)[:, ::-1] + beyond, beyond], axis=1)
     below.setflags(write=False)
     above.setflags(write=False)
     return _Grid(n_panels, below, above)

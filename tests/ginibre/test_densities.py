@@ -34,16 +34,6 @@ def _mpmath_reference():
 MPREF = _mpmath_reference()
 
 
-def eks_mean(n):
-    """E K_n = 1/2 + sqrt(2) Gamma(n + 1/2)/(Gamma(n) sqrt(pi)) 2F1(1, -1/2; n; 1/2).
-
-    Edelman, Kostlan & Shub 1994 (quoted from memory; THEORY.md section 1 verifies it to 1e-11 against
-    the exact sums).  ``poch(n, 1/2)`` is the Gamma ratio without the cancellation of gammaln
-    differences.
-    """
-    return 0.5 + np.sqrt(2.0 / np.pi) * special.poch(n, 0.5) * special.hyp2f1(1.0, -0.5, n, 0.5)
-
-
 class TestRealDensity:
     # THEORY.md mpmath check values, section 3.
     @pytest.mark.parametrize(
@@ -85,7 +75,7 @@ class TestRealDensity:
         # int rho_r = E K_n, with E K_n from the EKS (1994) closed form; the density is even.
         edge = np.sqrt(n)
         half, _ = integrate.quad(real_density, 0.0, edge + 20.0, args=(n,), points=[edge], epsabs=0, epsrel=1e-13)
-        assert 2.0 * half == pytest.approx(eks_mean(n), rel=1e-11)
+        assert 2.0 * half == pytest.approx(MPREF.eks_mean(n), rel=1e-11)
 
     def test_plateau_inside_the_bulk(self):
         # Fact of the field (Edelman, Kostlan & Shub 1994, from memory): in raw units (entries of
@@ -153,7 +143,7 @@ class TestComplexDensity:
             return complex_density(complex(x, y), n)
 
         quadrant, _ = integrate.dblquad(density, 0.0, lim, 0.0, lim, epsabs=1e-11, epsrel=1e-11)
-        assert 4.0 * quadrant == pytest.approx(n - eks_mean(n), rel=1e-10)
+        assert 4.0 * quadrant == pytest.approx(n - MPREF.eks_mean(n), rel=1e-10)
 
     def test_depleted_strip_near_the_real_axis(self):
         # THEORY.md section 4 table (N = 400): pi rho_c(i y) at y = 0.1 ... 15.

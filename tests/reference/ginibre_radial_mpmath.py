@@ -6,7 +6,7 @@ Run from the repository root::
 
 It writes ``ginibre_radial_mpmath.json`` beside this file (do not edit that file by hand).  The formulas
 are typed here again from THEORY.md sections 3-5, in mpmath at 50 digits, independently of the package
-(this script imports nothing from nullspec):
+(this script imports nothing from nullspec; the tests load its functions from this file):
 
 - real density  rho_r(x) = Q(n-1, x^2)/sqrt(2 pi) + |x|^(n-1) e^(-x^2/2) / (2^(n/2) Gamma(n/2)) P((n-1)/2, x^2/2);
 - non-real density  rho_c(x+iy) = sqrt(2/pi) |y| e^(2y^2) erfc(sqrt(2)|y|) Q(n-1, x^2+y^2);
@@ -22,6 +22,8 @@ import json
 import pathlib
 
 import mpmath as mp
+import numpy as np
+from scipy import special
 
 OUT = pathlib.Path(__file__).with_name("ginibre_radial_mpmath.json")
 
@@ -30,6 +32,16 @@ TAIL_RADII = {10: (10.89, 11.96), 100: (17.1, 18.05), 1000: (38.37, 39.25), 1000
 BULK_RADII = ((20, 3.0), (20, 5.0), (100, 5.0), (100, 11.0), (100, 13.0), (1000, 1000**0.5))
 REAL_POINTS = ((1000, 20.0), (1000, 32.0), (1000, 35.0), (100000, 316.0), (100000, 320.0))
 COMPLEX_POINTS = ((1000, 10.0, 10.0), (1000, 30.0, 5.0), (1000, 0.3, 0.1), (100000, 300.0, 20.0))
+
+
+def eks_mean(n):
+    """E K_n = 1/2 + sqrt(2) Gamma(n + 1/2)/(Gamma(n) sqrt(pi)) 2F1(1, -1/2; n; 1/2), in float64.
+
+    Edelman, Kostlan & Shub 1994 (quoted from memory; THEORY.md section 1 verifies it to 1e-11 against
+    the exact sums), with scipy.special.hyp2f1; ``poch(n, 1/2)`` is the Gamma ratio without the
+    cancellation of gammaln differences.  Used by the tests, not written to the JSON.
+    """
+    return 0.5 + np.sqrt(2.0 / np.pi) * special.poch(n, 0.5) * special.hyp2f1(1.0, -0.5, n, 0.5)
 
 
 def q_upper(a, t):
