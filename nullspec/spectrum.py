@@ -120,7 +120,9 @@ def _unit_phase(v):
     """``v / |v|`` with its largest entry made real and positive (a reproducible phase)."""
     v = v / np.linalg.norm(v)
     k = np.argmax(np.abs(v))
-    return v * (np.abs(v[k]) / v[k])
+    v = v * (np.abs(v[k]) / v[k])
+    v[k] = np.abs(v[k])  # exactly real: the product leaves rounding in the imaginary part
+    return v
 
 
 def _factor(shifted, floor):
