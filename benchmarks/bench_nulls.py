@@ -10,6 +10,8 @@ Statistic: the real count K = #{Im λ == 0} of a permuted matrix (all N² entrie
   GIL-free LAPACK route) measured in the same round;
 - ``engine_*``: :func:`nullspec.nulls.draw_null` with ``Permutation()``, n_jobs = 1 and 2, on the
   default hint (threads) and on loky (warm pool);
+- ``prefer``: the engine on threads vs a warm loky pool vs in-process, for the real count alone and
+  for the full pipeline (standardise, spectrum, real_count + radial + edge), at N = 50, 100, 400;
 - the Gaussian null drawn dense vs in Hessenberg form (THEORY.md §9), in-process.
 
 Each round times every method once, interleaved, after waiting (up to a limit) for the 1-minute
@@ -21,6 +23,7 @@ load average to fall; the JSON keeps every round and the medians. Run from the r
 
 import argparse
 import contextlib
+import functools
 import json
 import os
 import platform
@@ -35,6 +38,9 @@ from scipy import stats
 from threadpoolctl import threadpool_limits
 
 import nullspec
+from nullspec import statistics
+from nullspec.spectrum import compute_spectrum
+from nullspec.standardize import standardize
 from nullspec._lapack import eigvals, hessenberg_eigvals
 from nullspec.nulls import Gaussian, Permutation, draw_null
 
@@ -54,6 +60,12 @@ def real_count(surrogate):
 def hessenberg_real_count(h):
     """K of a Hessenberg surrogate (dhseqr, no reduction)."""
     return [np.count_nonzero(hessenberg_eigvals(h, overwrite=True).imag == 0)]
+
+
+def pipeline(surrogate):
+    """A full evaluation as the inference layer runs it: standardise, spectrum, three statistics."""
+    spec = compute_spectrum(standardize(surrogate).matrix)
+    return statistics.evaluate(spec, ("real_count", "radial", "edge"))
 
 
 def naive_loop(a, b, seed):
@@ -130,14 +142,17 @@ def throughput_round(n, b, seed):
 
 
 def prefer_round(n, b, seed):
-    """Engine with n_jobs=2 on threads vs on a warm loky pool (the `prefer` hint's evidence)."""
+    """Engine with n_jobs=2 on threads vs a warm loky pool (the `prefer` hint's evidence), for the
+    real count alone and for the full pipeline (whose Python parts hold the GIL)."""
     a = np.random.default_rng(seed).standard_normal((n, n))
     engine(a, 4 * CORES, seed, 2, backend="loky")
-    return {
-        "threads": timed_rate(lambda: engine(a, b, seed, 2, backend="threading"), b),
-        "loky_warm": timed_rate(lambda: engine(a, b, seed, 2, backend="loky"), b),
-        "in_process": timed_rate(lambda: engine(a, b, seed, 1), b),
-    }
+    rates = {}
+    for label, evaluate, size in (("real_count", real_count, b), ("pipeline", pipeline, b // 2)):
+        run_ = functools.partial(engine, a, size, seed, evaluate=evaluate)
+        rates[f"{label}_threads"] = timed_rate(lambda: run_(2, backend="threading"), size)
+        rates[f"{label}_loky_warm"] = timed_rate(lambda: run_(2, backend="loky"), size)
+        rates[f"{label}_in_process"] = timed_rate(lambda: run_(1), size)
+    return rates
 
 
 def hessenberg_round(n, b, seed):

@@ -39,6 +39,8 @@ _TARGET_BATCH_SECONDS = 0.075
 _DRAW_OVERHEAD = 40e-6
 _SOLVE_SECONDS_PER_N3 = 2.2e-9
 _MAX_BATCH = 256
+# Fewer tasks than this run in-process (see _Runner).
+_MIN_TASKS_FOR_POOL = 4
 # Sequential stopping is checked after every round of this many batches (never depends on n_jobs).
 BATCHES_PER_ROUND = 8
 # Soft hint given to joblib (see the module's Notes / benchmarks/bench_nulls.py for the measurement).
@@ -197,21 +199,24 @@ def _progress_bar(progress, total):
     return tqdm(total=total, file=sys.stderr, unit="draw", disable=None if progress is None else False)
 
 
-def _backend_name(parallel_jobs):
-    """Name of the joblib backend that will run the batches (or "in-process")."""
-    if parallel_jobs is None:
-        return "in-process"
+def _backend_name():
+    """Short name of the joblib backend the hint and the active configuration select."""
     backend, _ = get_active_backend(prefer=_PREFER)
     return type(backend).__name__.removesuffix("Backend").lower()
 
 
 class _Runner:
-    """Runs rounds of tasks in-process or through one joblib Parallel (pool kept across rounds)."""
+    """Runs rounds of tasks in-process or through one joblib Parallel (pool kept across rounds).
+
+    A run with one worker, or with fewer than _MIN_TASKS_FOR_POOL tasks, stays in-process: a cold
+    process pool costs ~0.3 s to start (PERFORMANCE.md), about four batches of work.
+    """
 
     def __init__(self, n_jobs, n_tasks):
         parallel = Parallel(n_jobs=n_jobs, prefer=_PREFER, return_as="generator_unordered")
-        self.parallel = parallel if parallel.n_jobs != 1 and n_tasks > 1 else None
-        self.backend = _backend_name(None if self.parallel is None else parallel.n_jobs)
+        pooled = parallel.n_jobs != 1 and n_tasks >= _MIN_TASKS_FOR_POOL
+        self.parallel = parallel if pooled else None
+        self.backend = _backend_name() if pooled else "in-process"
 
     def __enter__(self):
         if self.parallel is not None:
@@ -356,7 +361,8 @@ def draw_null(
         Root seed (see :func:`nullspec._rng.as_seed_sequence`); must be None with `previous`.
     n_jobs : int, optional
         Parallel workers, joblib's meaning (None: 1 unless a :func:`joblib.parallel_config` says
-        otherwise; -1: all cores). With one worker, or a single batch, the run stays in-process.
+        otherwise; -1: all cores). With one worker, or fewer than four batches, the run stays
+        in-process.
     batch_size : int, optional
         Draws per batch; default :func:`default_batch_size` of N. Changing it changes the draws.
     progress : bool, optional
