@@ -54,7 +54,7 @@ class NullDraws:
     Attributes
     ----------
     values : ndarray, shape (B, k)
-        Row ``j`` holds the k statistics of surrogate ``j``, in draw order.
+        Row ``j`` holds the k statistics of surrogate ``j``, in draw order (read-only).
     n_used : int
         Number of leading rows the decision rests on: ``B``, or the ``L`` at which a stopping rule
         settled the decision (rows after ``L`` were computed in the same round and are kept).
@@ -188,13 +188,13 @@ def _rounds(tasks, staged):
 
 
 def _progress_bar(progress, total):
-    """A tqdm bar on stderr (None when off or tqdm is not installed)."""
+    """Context giving a tqdm bar on stderr, or None when off or tqdm is not installed."""
     if progress is False:
-        return None
+        return contextlib.nullcontext()
     try:
         from tqdm.auto import tqdm
     except ImportError:
-        return None
+        return contextlib.nullcontext()
     # disable=None: tqdm turns itself off when stderr is not a terminal (progress=None means auto)
     return tqdm(total=total, file=sys.stderr, unit="draw", disable=None if progress is None else False)
 
@@ -412,11 +412,9 @@ def draw_null(
     done = sum(len(block) for block in earlier)
     tasks = _tasks(done, done + n_resamples, size)
     work = _TaskFunction(matrix, null, evaluate, root)
-    bar = _progress_bar(progress, n_resamples)
     with _one_blas_thread(), _Runner(n_jobs, len(tasks)) as runner:
-        state = _execute(runner, work, _rounds(tasks, stop is not None), bar, stop, earlier)
-    if bar is not None:
-        bar.close()
+        with _progress_bar(progress, n_resamples) as bar:
+            state = _execute(runner, work, _rounds(tasks, stop is not None), bar, stop, earlier)
     return _assemble(state, earlier, root, size, runner.backend, null, begin, previous)
 
 
@@ -434,6 +432,7 @@ def _assemble(state, earlier, root, size, backend, null, begin, previous):
     """Build the NullDraws of a finished, stopped or interrupted run."""
     blocks = earlier + state.prefix()
     values = np.concatenate(blocks) if blocks else np.empty((0, 0))  # interrupted before any batch
+    values.flags.writeable = False
     if state.interrupted:
         warnings.warn(
             f"Drawing the null was interrupted after {len(values)} draws; the result rests on "

@@ -296,3 +296,25 @@ def test_bad_extensions(matrix, reference):
         extend(batch_size=5)
     with pytest.raises(TypeError, match=r"`previous` must be a NullDraws result of draw_null; got dict"):
         extend(previous={})
+
+
+def _fails(surrogate):
+    raise ZeroDivisionError("raised by the evaluation")
+
+
+@pytest.mark.parametrize("n_jobs", [1, 2])
+def test_errors_in_the_evaluation_propagate(matrix, n_jobs):
+    with pytest.raises(ZeroDivisionError, match="raised by the evaluation"):
+        draw_null(matrix, Permutation(), _fails, n_resamples=20, rng=0, batch_size=2, n_jobs=n_jobs,
+                  progress=False)
+
+
+def test_small_runs_stay_in_process(matrix, reference):
+    got = run(matrix, n_resamples=12, n_jobs=2)  # 3 batches < 4: no pool
+    assert got.backend == "in-process"
+    np.testing.assert_array_equal(got.values, reference.values[:12])
+
+
+def test_values_are_read_only(reference):
+    with pytest.raises(ValueError, match="read-only"):
+        reference.values[0, 0] = 1.0
