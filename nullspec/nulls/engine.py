@@ -17,6 +17,7 @@ hence the values, the same in every process.
 
 import contextlib
 import dataclasses
+import hashlib
 import sys
 import threading
 import time
@@ -77,6 +78,8 @@ class NullDraws:
         Wall-clock seconds spent drawing (summed over extensions).
     null : str
         ``repr`` of the null model, checked when the result is extended.
+    matrix_digest : str
+        A hash of the observed matrix's values, checked when the result is extended.
     """
 
     values: np.ndarray
@@ -90,6 +93,7 @@ class NullDraws:
     backend: str
     elapsed: float
     null: str
+    matrix_digest: str
 
     def seed_sequence(self):
         """The root seed of the draws (a new SeedSequence object).
@@ -290,6 +294,11 @@ def _ask_stop(stop, values):
     return count
 
 
+def _digest(matrix):
+    """Short hash of the matrix's values (C order), to recognise the matrix of an extension."""
+    return hashlib.blake2b(np.ascontiguousarray(matrix).tobytes(), digest_size=8).hexdigest()
+
+
 def _start(matrix, null, rng, batch_size, previous):
     """Root seed, batch size and earlier values of a run (a new one, or an extension)."""
     if previous is None:
@@ -297,18 +306,23 @@ def _start(matrix, null, rng, batch_size, previous):
             batch_size, "batch_size"
         )
         return as_seed_sequence(rng), size, []
-    _check_extension(previous, null, rng, batch_size)
+    _check_extension(previous, matrix, null, rng, batch_size)
     return previous.seed_sequence(), previous.batch_size, [previous.values]
 
 
-def _check_extension(previous, null, rng, batch_size):
-    """An extension must continue the same stream: same null, root seed and batch size."""
+def _check_extension(previous, matrix, null, rng, batch_size):
+    """An extension must continue the same stream: same matrix, null, root seed and batch size."""
     if not isinstance(previous, NullDraws):
         raise TypeError(f"`previous` must be a NullDraws result of draw_null; got {type(previous).__name__}.")
     if rng is not None:
         raise ValueError(
             "`rng` must be None when `previous` is given (the extension continues the previous "
             f"root seed); got rng={rng!r}. Drop rng, or start a new run without previous."
+        )
+    if _digest(matrix) != previous.matrix_digest:
+        raise ValueError(
+            "`matrix` must be the matrix of `previous` to extend it; got a matrix with other values. "
+            "Pass the same matrix, or start a new run."
         )
     if repr(null) != previous.null:
         raise ValueError(
@@ -415,7 +429,9 @@ def draw_null(
     with _one_blas_thread(), _Runner(n_jobs, len(tasks)) as runner:
         with _progress_bar(progress, n_resamples) as bar:
             state = _execute(runner, work, _rounds(tasks, stop is not None), bar, stop, earlier)
-    return _assemble(state, earlier, root, size, runner.backend, null, begin, previous)
+    run = {"root": root, "batch_size": size, "backend": runner.backend, "null": repr(null),
+           "matrix_digest": _digest(matrix), "begin": begin}
+    return _assemble(state, earlier, run, previous)
 
 
 class _TaskFunction:
@@ -428,7 +444,7 @@ class _TaskFunction:
         return _run_task(*self.args, task)
 
 
-def _assemble(state, earlier, root, size, backend, null, begin, previous):
+def _assemble(state, earlier, run, previous):
     """Build the NullDraws of a finished, stopped or interrupted run."""
     blocks = earlier + state.prefix()
     values = np.concatenate(blocks) if blocks else np.empty((0, 0))  # interrupted before any batch
@@ -440,16 +456,18 @@ def _assemble(state, earlier, root, size, backend, null, begin, previous):
             InterruptedNullWarning,
             stacklevel=3,
         )
+    root = run["root"]
     return NullDraws(
         values=values,
         n_used=len(values) if state.n_used is None else state.n_used,
-        n_batches=-(-len(values) // size),
-        batch_size=size,
+        n_batches=-(-len(values) // run["batch_size"]),
+        batch_size=run["batch_size"],
         entropy=root.entropy,
         spawn_key=tuple(root.spawn_key),
         pool_size=root.pool_size,
         complete=not state.interrupted,
-        backend=backend,
-        elapsed=time.perf_counter() - begin + (0.0 if previous is None else previous.elapsed),
-        null=repr(null),
+        backend=run["backend"],
+        elapsed=time.perf_counter() - run["begin"] + (0.0 if previous is None else previous.elapsed),
+        null=run["null"],
+        matrix_digest=run["matrix_digest"],
     )

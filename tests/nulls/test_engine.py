@@ -296,6 +296,8 @@ def test_bad_extensions(matrix, reference):
         extend(batch_size=5)
     with pytest.raises(TypeError, match=r"`previous` must be a NullDraws result of draw_null; got dict"):
         extend(previous={})
+    with pytest.raises(ValueError, match=r"`matrix` must be the matrix of `previous`"):
+        draw_null(matrix + 1.0, Permutation(), spectrum_stats, n_resamples=5, previous=reference)
 
 
 def _fails(surrogate):
