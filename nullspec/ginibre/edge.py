@@ -22,8 +22,9 @@ Method
   summed directly (relative accuracy about 1e-14 down to ``G* ~ 1e-25``).
 - The survival function is ``-expm1(-G*)``, so it keeps the relative accuracy of ``G*`` in the tail.
 - The inverse solves ``log G*(r) = log(-log1p(-p))`` with scipy's vectorised bracketing root finder
-  (Chandrupatla's method, ``scipy.optimize.elementwise.find_root``) on ``[0, sqrt(n) + 40]``;
-  ``log G*`` is smooth and nearly quadratic in the tail.  Where ``p >= spectral_radius_sf(0, n)``
+  (Chandrupatla's method, ``scipy.optimize.elementwise.find_root``).  The bracket, three panels wide,
+  comes from the grid's cumulative tail sums at the panel edges (``sqrt(n) + 40`` bounds it beyond the
+  grid); ``log G*`` is smooth and nearly quadratic in the tail.  Where ``p >= spectral_radius_sf(0, n)``
   (only for ``n <= 3`` and large ``p``) the answer is 0.
 - The large-``n`` Gumbel limits of the spectral radius (Rider 2003 for the complex ensemble; a real
   analogue attributed to Rider and Sinclair 2014, both quoted from memory and unchecked) are not used:
@@ -44,7 +45,7 @@ import numpy as np
 from scipy.optimize import elementwise
 
 from ._checks import check_probability, check_radius, check_size
-from .radial import _expected_outside
+from .radial import _expected_outside, _outside_at_edges
 
 __all__ = ["spectral_radius_sf", "spectral_radius_isf", "spectral_radius_bound"]
 
@@ -64,6 +65,20 @@ def _log_gap(r, log_target, n):
     g = _upper_tail(r, n)
     with np.errstate(divide="ignore"):
         return np.maximum(np.log(g), _LOG_FLOOR) - log_target
+
+
+def _bracket(target, n):
+    """Radii ``(lo, hi)`` with ``G*(lo) > target > G*(hi)``, from the grid's tail sums at panel edges.
+
+    The bracket spans the panel where the tail crosses ``target`` plus one panel on each side, so the
+    rounding difference between the edge sums and a fresh evaluation cannot flip a sign.  Targets below
+    the tail at the grid end get ``(grid end, sqrt(n) + 40)``.
+    """
+    edges, tail = _outside_at_edges(n, "upper")
+    k = np.searchsorted(-tail, -target, side="right")  # first edge whose tail is below target
+    lo = edges[np.maximum(k - 2, 0)]
+    hi = np.where(k + 1 < edges.size, edges[np.minimum(k + 1, edges.size - 1)], np.sqrt(n) + _ISF_REACH)
+    return lo, hi
 
 
 def spectral_radius_sf(r, n):
@@ -184,11 +199,12 @@ def spectral_radius_isf(p, n):
     """
     n = check_size(n)
     p = check_probability(p, "p")
-    log_target = np.log(-np.log1p(-p))
-    at_zero = _log_gap(np.zeros(p.shape), log_target, n) <= 0
+    target = -np.log1p(-p)  # the G* that gives sf = p
+    log_target = np.log(target)
+    solve = _log_gap(np.zeros(p.shape), log_target, n) > 0  # else sf(0) <= p: the answer is r = 0
     r = np.zeros(p.shape)
-    if not at_zero.all():
+    if solve.any():
         gap = functools.partial(_log_gap, n=n)
-        res = elementwise.find_root(gap, (0.0, np.sqrt(n) + _ISF_REACH), args=(log_target[~at_zero],))
-        r[~at_zero] = res.x
+        res = elementwise.find_root(gap, _bracket(target[solve], n), args=(log_target[solve],))
+        r[solve] = res.x
     return r

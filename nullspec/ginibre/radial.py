@@ -158,6 +158,13 @@ def _combine(parts, part, shape):
     return (w_real * parts[0] + w_nonreal * parts[1]).reshape(shape)
 
 
+def _outside_at_edges(n, part):
+    """Panel edges of the grid for ``n`` and the expected count beyond each (brackets for inverses)."""
+    grid = _grid(n)
+    edges = np.arange(grid.n_panels + 1) * _PANEL
+    return edges, _combine(grid.above, part, edges.shape)
+
+
 def _expected_outside(r, n, part):
     """``expected_outside`` without argument checks (``r`` a float array, ``n`` an int)."""
     return _combine(_outside_parts(r.ravel(), n), part, r.shape)
