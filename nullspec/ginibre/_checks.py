@@ -6,6 +6,7 @@ says how to fix it, in the same style as the user-facing messages of ``nullspec.
 """
 
 import numbers
+import reprlib
 
 import numpy as np
 
@@ -15,6 +16,16 @@ __all__ = ["check_size", "check_real", "check_complex", "check_radius", "check_p
 def _first_bad(values, good):
     """The first entry of ``values`` where the boolean array ``good`` is False, as a Python scalar."""
     return values[~good].flat[0].item()
+
+
+def _as_numbers(x, name, dtype):
+    """``x`` as an array of ``dtype``, or ValueError if its entries are not numbers."""
+    try:
+        return np.asarray(x).astype(dtype)
+    except (TypeError, ValueError):
+        raise ValueError(
+            f"`{name}` must hold numbers; got {reprlib.repr(x)}. Pass a number or an array of numbers."
+        ) from None
 
 
 def check_size(n):
@@ -64,7 +75,7 @@ def check_real(x, name):
     Raises
     ------
     ValueError
-        If an entry is complex, NaN or infinite.
+        If an entry is not a number, or is complex, NaN or infinite.
 
     Examples
     --------
@@ -72,10 +83,9 @@ def check_real(x, name):
     >>> check_real([0, 1.5], "x").tolist()
     [0.0, 1.5]
     """
-    arr = np.asarray(x)
-    if np.iscomplexobj(arr):
+    if np.iscomplexobj(x):
         raise ValueError(f"`{name}` must be real; got a complex array. Pass the real parts, e.g. `{name}.real`.")
-    arr = arr.astype(float)
+    arr = _as_numbers(x, name, float)
     good = np.isfinite(arr)
     if not good.all():
         raise ValueError(f"`{name}` must be finite; got {_first_bad(arr, good)!r}. Remove NaN and infinite values.")
@@ -100,7 +110,7 @@ def check_complex(z, name):
     Raises
     ------
     ValueError
-        If a real or imaginary part is NaN or infinite.
+        If an entry is not a number, or a real or imaginary part is NaN or infinite.
 
     Examples
     --------
@@ -108,7 +118,7 @@ def check_complex(z, name):
     >>> check_complex(1j, "z").item()
     1j
     """
-    arr = np.asarray(z).astype(complex)
+    arr = _as_numbers(z, name, complex)
     good = np.isfinite(arr)
     if not good.all():
         raise ValueError(f"`{name}` must be finite; got {_first_bad(arr, good)!r}. Remove NaN and infinite values.")

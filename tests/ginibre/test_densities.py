@@ -119,7 +119,9 @@ class TestComplexDensity:
     def test_theory_check_values(self, z, n, expected):
         assert complex_density(z, n) == pytest.approx(expected, rel=1e-13)
 
-    @pytest.mark.parametrize(("x", "y", "n"), [(0.3, 0.2, 2), (1.0, -2.0, 5), (3.0, 0.1, 10), (9.0, 3.0, 100)])
+    @pytest.mark.parametrize(
+        ("x", "y", "n"), [(0.3, 0.2, 2), (1.0, -2.0, 5), (1.0, 1.0, 10), (3.0, 0.1, 10), (9.0, 3.0, 100)]
+    )
     def test_against_mpmath_recomputed_here(self, x, y, n):
         # mpmath evaluation of the same formula (THEORY.md section 4) at 30 digits.
         with mp.workdps(30):
@@ -197,6 +199,13 @@ class TestArgumentErrors:
     def test_complex_x(self):
         with pytest.raises(ValueError, match=re.escape("`x` must be real; got a complex array. Pass the real parts")):
             real_density(1 + 1j, 5)
+
+    @pytest.mark.parametrize("func", [real_density, complex_density])
+    def test_not_numbers(self, func):
+        name = "x" if func is real_density else "z"
+        message = f"`{name}` must hold numbers; got ['a', 1]. Pass a number or an array of numbers."
+        with pytest.raises(ValueError, match=re.escape(message)):
+            func(["a", 1], 5)
 
     def test_non_finite_z(self):
         with pytest.raises(ValueError, match=re.escape("`z` must be finite; got (nan+1j). Remove NaN and infinite")):
