@@ -10,7 +10,10 @@ import reprlib
 
 import numpy as np
 
-__all__ = ["check_size", "check_real", "check_complex", "check_radius", "check_probability", "check_option"]
+# Far beyond any matrix that can be stored (10**18 entries); the radial grid for it is still cheap.
+MAX_SIZE = 10**9
+
+__all__ = ["MAX_SIZE", "check_size", "check_real", "check_complex", "check_radius", "check_probability", "check_option"]
 
 
 def _first_bad(values, good):
@@ -34,7 +37,8 @@ def check_size(n):
     Parameters
     ----------
     n : int
-        Matrix size; must be a whole number >= 1 (Python or numpy integer, not bool or float).
+        Matrix size; must be a whole number from 1 to ``MAX_SIZE`` (Python or numpy integer, not bool
+        or float).
 
     Returns
     -------
@@ -44,7 +48,7 @@ def check_size(n):
     Raises
     ------
     ValueError
-        If ``n`` is not an integer or is smaller than 1.
+        If ``n`` is not an integer, or is smaller than 1 or larger than ``MAX_SIZE``.
 
     Examples
     --------
@@ -54,6 +58,11 @@ def check_size(n):
     """
     if isinstance(n, bool) or not isinstance(n, numbers.Integral) or n < 1:
         raise ValueError(f"`n` must be an integer >= 1 (the matrix size); got {n!r}. Pass a positive whole number.")
+    if n > MAX_SIZE:
+        raise ValueError(
+            f"`n` must be at most {MAX_SIZE:.0e} (the largest matrix size the formulas are evaluated for); "
+            f"got {n!r}. Pass a realistic matrix size."
+        )
     return int(n)
 
 

@@ -54,13 +54,23 @@ __all__ = ["real_density", "complex_density"]
 _INV_SQRT_2PI = 1.0 / np.sqrt(2.0 * np.pi)
 _SQRT_2_OVER_PI = np.sqrt(2.0 / np.pi)
 _SQRT2 = np.sqrt(2.0)
+_CAP = 1000.0
 
 
-def _upper_q(n, t):
-    """``Q(n - 1, t)``, the chance that a Poisson(t) count is at most ``n - 2`` (0 for ``n = 1``)."""
+def _clipped(modulus, n):
+    """``modulus`` capped at ``sqrt(n) + 1000``, beyond which both densities are exactly 0.0 in float64.
+
+    The cap keeps squares from overflowing for absurdly large arguments without changing any result.
+    """
+    return np.minimum(modulus, np.sqrt(n) + _CAP)
+
+
+def _upper_q(n, modulus):
+    """``Q(n - 1, modulus**2)``: the chance that a Poisson(modulus**2) count is <= n - 2 (0 for n = 1)."""
     if n == 1:
-        return np.zeros_like(t)
-    return special.gammaincc(n - 1, t)
+        return np.zeros_like(modulus)
+    m = _clipped(modulus, n)
+    return special.gammaincc(n - 1, m * m)
 
 
 def _real_edge_term(x, n):
@@ -68,14 +78,15 @@ def _real_edge_term(x, n):
 
     For ``n = 1`` the whole density is this term with ``P(0, .) = 1``: the N(0, 1) density.
     """
-    t = 0.5 * x * x
+    ax = _clipped(np.abs(x), n)
+    t = 0.5 * ax * ax
     if n == 1:
         return _INV_SQRT_2PI * np.exp(-t)
-    return 0.5 * np.abs(x) * np.exp(log_poisson(0.5 * n - 1.0, t)) * special.gammainc(0.5 * (n - 1), t)
+    return 0.5 * ax * np.exp(log_poisson(0.5 * n - 1.0, t)) * special.gammainc(0.5 * (n - 1), t)
 
 
 def _real_density(x, n, q):
-    """Real density at ``x`` given ``q = Q(n - 1, x**2)`` (shared with the radial integrand)."""
+    """Real density at ``x`` given ``q = _upper_q(n, |x|)`` (shared with the radial integrand)."""
     return _INV_SQRT_2PI * q + _real_edge_term(x, n)
 
 
@@ -84,7 +95,7 @@ def _strip_factor(y):
 
     It rises from 0 at the axis to ``1/pi`` for ``|y| >> 1`` (as ``(1 - 1/(4 y**2) + ...)/pi``).
     """
-    ay = np.abs(y)
+    ay = np.minimum(np.abs(y), 1e150)  # the factor is exactly 1/pi in float64 long before the cap
     return _SQRT_2_OVER_PI * ay * special.erfcx(_SQRT2 * ay)
 
 
@@ -131,7 +142,7 @@ def real_density(x, n):
     """
     n = check_size(n)
     x = check_real(x, "x")
-    return _real_density(x, n, _upper_q(n, x * x))
+    return _real_density(x, n, _upper_q(n, np.abs(x)))
 
 
 def complex_density(z, n):
@@ -178,4 +189,4 @@ def complex_density(z, n):
     """
     n = check_size(n)
     z = check_complex(z, "z")
-    return _strip_factor(z.imag) * _upper_q(n, z.real**2 + z.imag**2)
+    return _strip_factor(z.imag) * _upper_q(n, np.abs(z))

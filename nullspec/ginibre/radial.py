@@ -53,7 +53,7 @@ import numpy as np
 from scipy import special
 
 from ._checks import check_option, check_radius, check_size
-from .densities import _real_density, _upper_q
+from .densities import _clipped, _real_density, _upper_q
 
 __all__ = ["expected_within", "expected_outside", "modulus_cdf"]
 
@@ -79,7 +79,7 @@ def _one_minus_erfcx(u):
 
 def _integrands(s, n):
     """Radial densities at moduli ``s``: array of shape ``(2,) + s.shape``, (real, non-real)."""
-    q = _upper_q(n, s * s)
+    q = _upper_q(n, s)
     real = 2.0 * _real_density(s, n, q)
     nonreal = 2.0 * s * _one_minus_erfcx(_SQRT2 * s) * q
     return np.stack([real, nonreal])
@@ -88,7 +88,7 @@ def _integrands(s, n):
 def _panel_integrals(a, b, n):
     """16-point Gauss-Legendre integrals of both parts over ``[a, b]`` (broadcast arrays)."""
     half = 0.5 * (b - a)
-    mid = 0.5 * (b + a)
+    mid = a + half
     nodes = mid[..., None] + half[..., None] * _GL_NODES
     return half * (_integrands(nodes, n) @ _GL_WEIGHTS)
 
@@ -119,7 +119,7 @@ def _grid(n):
 
 def _panel_index(r, grid):
     """Index of the panel holding each radius, capped at ``grid.n_panels`` (beyond the grid)."""
-    return np.minimum(np.floor(r / _PANEL), grid.n_panels).astype(np.intp)
+    return np.floor(np.minimum(r, grid.n_panels * _PANEL) / _PANEL).astype(np.intp)
 
 
 def _far_tail(r, n):
@@ -130,6 +130,7 @@ def _far_tail(r, n):
 
 def _outside_parts(r, n):
     """(G_real, G_c) at radii ``r`` (1-D float array), each summed directly from the top."""
+    r = _clipped(r, n)  # both parts are exactly 0.0 beyond the cap
     grid = _grid(n)
     k = _panel_index(r, grid)
     inside = k < grid.n_panels
@@ -302,4 +303,5 @@ def modulus_cdf(s, n):
     """
     n = check_size(n)
     s = check_radius(s, "s")
-    return _combine(_within_parts(s.ravel() * np.sqrt(n), n), "all", s.shape) / n
+    r = np.minimum(s.ravel(), 1e150) * np.sqrt(n)  # the cap (far past the edge) avoids overflow only
+    return _combine(_within_parts(r, n), "all", s.shape) / n

@@ -183,6 +183,18 @@ class TestComplexDensity:
         np.testing.assert_array_equal(out, complex_density(-z, 12))
 
 
+class TestExtremeArguments:
+    def test_huge_arguments_give_exact_limits_without_warnings(self):
+        # Warnings are errors under pytest: no overflow may escape for arguments up to the largest float.
+        big = np.array([1e3, 1e100, np.finfo(float).max])
+        np.testing.assert_array_equal(real_density(big, 10), 0.0)
+        np.testing.assert_array_equal(real_density(-big, 1), 0.0)
+        np.testing.assert_array_equal(complex_density(big * 1j, 10), 0.0)
+        np.testing.assert_array_equal(complex_density(big * (1 + 1j), 10**6), 0.0)
+        # Inside the disk of the largest allowed size, the strip formula of TestComplexDensity holds.
+        assert np.pi * complex_density(1e4j, 10**9) == pytest.approx(1.0 - 1.0 / (4e8), rel=1e-14)
+
+
 class TestArgumentErrors:
     @pytest.mark.parametrize("n", [0, -3, 3.5, 10.0, True, "10", None])
     @pytest.mark.parametrize("func", [real_density, complex_density])

@@ -174,12 +174,30 @@ class TestMonteCarlo:
                 assert abs(z) < 4, (r, part, z)
 
 
+class TestExtremeArguments:
+    def test_huge_radii_give_exact_limits_without_warnings(self):
+        # Warnings are errors under pytest: no overflow may escape for radii up to the largest float.
+        r = np.array([1e3, 1e100, np.finfo(float).max])
+        np.testing.assert_array_equal(expected_outside(r, 10), 0.0)
+        np.testing.assert_allclose(expected_within(r, 10), 10.0, rtol=1e-15)
+        np.testing.assert_allclose(modulus_cdf(r, 10), 1.0, rtol=1e-15)
+
+    def test_largest_size(self):
+        # Fact of the field (circular law, common practice): F_n(sqrt n) / n -> 1 as n grows.
+        assert modulus_cdf(1.0, 10**9) == pytest.approx(1.0, abs=1e-3)
+
+
 class TestArgumentErrors:
     @pytest.mark.parametrize("func", [expected_within, expected_outside, modulus_cdf])
     def test_bad_size(self, func):
         message = "`n` must be an integer >= 1 (the matrix size); got 3.5. Pass a positive whole number."
         with pytest.raises(ValueError, match=re.escape(message)):
             func(1.0, 3.5)
+
+    def test_size_too_large(self):
+        message = "`n` must be at most 1e+09 (the largest matrix size the formulas are evaluated for); got 10000000000."
+        with pytest.raises(ValueError, match=re.escape(message)):
+            expected_outside(1.0, 10**10)
 
     @pytest.mark.parametrize("func", [expected_within, expected_outside])
     @pytest.mark.parametrize(("bad", "shown"), [(-1.0, "-1.0"), (np.nan, "nan"), (np.inf, "inf")])
