@@ -25,7 +25,8 @@ from nullspec.exceptions import (
 
 
 def test_every_warning_class_is_exported_and_derives_from_the_base():
-    classes = {name for name, obj in inspect.getmembers(exceptions, inspect.isclass) if obj.__module__ == exceptions.__name__}
+    members = inspect.getmembers(exceptions, inspect.isclass)
+    classes = {name for name, obj in members if obj.__module__ == exceptions.__name__}
     assert classes == set(exceptions.__all__)
     assert issubclass(NullspecWarning, UserWarning)
     for cls in (SmallMatrixWarning, NonGaussianEntriesWarning, ResolutionWarning, InterruptedNullWarning):
