@@ -171,12 +171,15 @@ def medians(rounds):
     return {key: float(np.median([r[key] for r in rounds])) for key in rounds[0]}
 
 
-def summarize_throughput(med):
-    limit, naive = med["limit"], med["naive"]
-    keys = [k for k in med if k.startswith(("naive", "scipy", "engine"))]
+def summarize_throughput(rounds):
+    """Ratios to the limit and to the naive loop: the median over rounds of each round's ratio
+    (methods are interleaved within a round, so a ratio compares like conditions)."""
+    keys = [k for k in rounds[0] if k.startswith(("naive", "scipy", "engine"))]
     return {
-        "ratio_to_limit": {k: med[k] / limit for k in keys},
-        "ratio_to_naive": {k: med[k] / naive for k in keys},
+        f"ratio_to_{base}": {
+            k: float(np.median([r[k] / r[base] for r in rounds])) for k in keys
+        }
+        for base in ("limit", "naive")
     }
 
 
@@ -207,9 +210,14 @@ def run(rounds, scale, max_load, patience):
             out[kind][str(n)] = {"replicates": b, "rounds": per_round, "median": medians(per_round)}
             print(kind, n, {k: round(v, 3) for k, v in medians(per_round).items()}, flush=True)
     for entry in out["throughput"].values():
-        entry.update(summarize_throughput(entry["median"]))
+        entry.update(summarize_throughput(entry["rounds"]))
+    for entry in out["prefer"].values():
+        entry["threads_over_loky"] = {
+            label: float(np.median([r[f"{label}_threads"] / r[f"{label}_loky_warm"] for r in entry["rounds"]]))
+            for label in ("real_count", "pipeline")
+        }
     for entry in out["hessenberg"].values():
-        entry["gain"] = entry["median"]["hessenberg"] / entry["median"]["dense"]
+        entry["gain"] = float(np.median([r["hessenberg"] / r["dense"] for r in entry["rounds"]]))
     out["cold_loky_seconds"] = cold_loky_seconds(1)
     return out
 
