@@ -17,6 +17,7 @@ scipy.special only, no I/O, no randomness.
 
 # Each module adds its public names below (one import line per module).
 # -- real_count --
+from .real_count import real_count_mean, real_count_pmf, real_count_var
 # -- densities --
 from .densities import complex_density, real_density
 # -- radial --
