@@ -207,17 +207,18 @@ def _run_demo(args):
         result = _relabelled(spectral_test(demo.values, **options), demo)
         _emit(render(result, args.format, source=demo.source, description=demo.description, seed=args.seed), None)
         return 0
-    demos = [load_demo(name) for name in demo_names()]
-    overview = screen({d.source: d.values for d in demos}, **options)
-    featured = demo_names().index(_DEMO_FEATURED)
+    names = demo_names()
+    demos = [load_demo(name) for name in names]
+    overview = screen(dict(zip(names, (d.values for d in demos))), **options)
+    featured = names.index(_DEMO_FEATURED)
     parts = [
-        "nullspec demo: four SYNTHETIC scenarios invented for this demo (nothing is read or written).",
-        "\n".join(f"  {d.source}: {d.description}" for d in demos),
-        render(overview, "text").rstrip("\n"),
-        f"Full report of {demos[featured].source}:",
-        render(_relabelled(overview.results[featured], demos[featured]), "text", source=demos[featured].source,
-               description=demos[featured].description).rstrip("\n"),
-        "Next: `nullspec demo NAME` for another scenario, `nullspec report FILE` for your own matrix.",
+        f"nullspec demo: {len(names)} SYNTHETIC scenarios invented for this demo (nothing is read or written).",
+        "\n".join(f"  {name}: {d.description}" for name, d in zip(names, demos)),
+        overview.summary(),
+        f"Full report of {_DEMO_FEATURED} (the cautions below apply to every row above):",
+        render(_relabelled(overview.results[featured], demos[featured]), "text",
+               source=demos[featured].source).rstrip("\n"),
+        "Next: `nullspec demo NAME` for another scenario's report, `nullspec report FILE` for your own matrix.",
     ]
     _emit("\n\n".join(parts) + "\n", None)
     return 0

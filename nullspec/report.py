@@ -81,6 +81,7 @@ _PMF_FLOOR = 1e-5  # real-count values less likely than this are left off the pl
 _ENVELOPE_SEED = 5_120_931  # fixed: the radial band is the same on every run and machine
 _ENVELOPE_GRID = np.linspace(0.0, 2.0, 201)
 _ENVELOPE_MAX_N = 300  # above this the band is not simulated (its cost grows as N**3)
+_RADIAL_AXIS_END = 1.6  # the radial profile's axis stops here: beyond it the expected fraction is ~1
 _DPI = 144
 
 
@@ -202,7 +203,9 @@ th { background: #f3f5f7; font-weight: 600; }
 td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
 td.labels { overflow-wrap: anywhere; }
 .small { color: #4a5561; font-size: 0.88em; }
-.figures { display: grid; grid-template-columns: repeat(auto-fit, minmax(440px, 1fr)); gap: 20px; }
+.figures { display: grid; grid-template-columns: 1fr 1fr; gap: 20px; align-items: start; }
+.figures figure:first-child { grid-row: span 2; }
+@media (max-width: 900px) { .figures { grid-template-columns: 1fr; } .figures figure:first-child { grid-row: auto; } }
 figure { margin: 0; padding: 10px; border: 1px solid #e3e7eb; border-radius: 6px; }
 figure img { width: 100%; height: auto; display: block; }
 figcaption { font-size: 0.9em; color: #33404c; margin-top: 6px; }
@@ -270,11 +273,11 @@ def _html_tests(result):
             f"{_e(_STATISTIC_TEXT.get(test.name, ''))}</span></td>"
             f'<td class="num">{_e(_fmt(test.statistic))}</td><td class="num">{_e(_fmt(test.expected))}</td>'
             f'<td class="num">{_e(_fmt_p(test.pvalue, test.pvalue_interval))}{_interval_text(test)}</td>'
-            f'<td class="num">{_e(_fmt(test.effect_size, 3))}</td><td>{_e(test.effect_label)}</td>'
+            f'<td class="num">{_e(_fmt(test.effect_size, 3))}</td><td class="small">{_e(test.effect_label)}</td>'
             f'<td>{_e(test.alternative)}</td><td class="small">{_e(test.method)}</td></tr>'
         )
     head = ("<tr><th>statistic</th><th>value</th><th>expected</th><th>p-value</th><th>effect</th>"
-            "<th>effect scale</th><th>alternative</th><th>how the p-value was computed</th></tr>")
+            "<th>effect measured as</th><th>alternative</th><th>how the p-value was computed</th></tr>")
     return "<h2>Statistics</h2>\n<table>\n" + head + "\n" + "\n".join(rows) + "\n</table>"
 
 
@@ -374,12 +377,12 @@ def _plane_figure(result, Figure):
     if z is None:
         return title, _NO_EIGENVALUES, None
     inner, outer = ginibre.spectral_radius_isf(np.array(_BAND_LEVELS), result.n) / np.sqrt(result.n)
-    figure = Figure(figsize=(6.0, 6.4), layout="constrained")
+    figure = Figure(figsize=(5.2, 5.7), layout="constrained")
     ax = figure.add_subplot()
     _draw_plane(ax, z, inner, outer)
     _mark_outliers(ax, result.outliers)
-    limit = 1.08 * max(outer, float(np.abs(z).max()))
-    ax.set(xlim=(-limit, limit), ylim=(-limit, limit), aspect="equal", xlabel="Re z", ylabel="Im z")
+    xlim, ylim = _square_limits(z, outer)
+    ax.set(xlim=xlim, ylim=ylim, aspect="equal", xlabel="Re z", ylabel="Im z")
     ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.1), ncol=2, fontsize="small", frameon=False)
     caption = (
         "The scaled eigenvalues z. Under the null the bulk fills the unit disk (circular law, solid circle); "
@@ -388,6 +391,15 @@ def _plane_figure(result, Figure):
         "that null. Circled and numbered: the outliers of the table below."
     )
     return title, caption, figure
+
+
+def _square_limits(z, radius):
+    """Axis limits holding the disk of ``radius`` and every point, padded, with equal spans (a square box)."""
+    low = np.minimum([z.real.min(), z.imag.min()], -radius)
+    high = np.maximum([z.real.max(), z.imag.max()], radius)
+    half = 0.54 * float(np.max(high - low))
+    middle = (low + high) / 2
+    return (middle[0] - half, middle[0] + half), (middle[1] - half, middle[1] + half)
 
 
 def _draw_plane(ax, z, inner, outer):
@@ -420,8 +432,8 @@ def _radial_figure(result, Figure):
     if z is None:
         return title, _NO_EIGENVALUES, None
     n, moduli = result.n, np.sort(np.abs(z))
-    top = max(1.35, 1.04 * float(moduli[-1]))
-    figure = Figure(figsize=(6.0, 4.6), layout="constrained")
+    top = min(max(1.35, 1.04 * float(moduli[-1])), _RADIAL_AXIS_END)
+    figure = Figure(figsize=(5.2, 3.9), layout="constrained")
     ax = figure.add_subplot()
     policy = _band_policy(result.standardization)
     draws, band = _radial_band(n, policy)
@@ -433,13 +445,16 @@ def _radial_figure(result, Figure):
     ax.step(np.r_[0.0, moduli], np.arange(n + 1) / n, where="post", color="#2f6db5", lw=1.4, label="your matrix")
     ax.set(xlim=(0.0, top), ylim=(0.0, 1.02), xlabel="s", ylabel="fraction of eigenvalues with |z| <= s")
     ax.legend(loc="lower right", fontsize="small")
-    return title, _radial_caption(n, draws, policy), figure
+    beyond = int(np.sum(moduli > top))
+    return title, _radial_caption(n, draws, policy, beyond), figure
 
 
-def _radial_caption(n, draws, policy):
+def _radial_caption(n, draws, policy, beyond):
     text = ("The fraction of eigenvalues with |z| at most s (step line) against the exact expected fraction "
             f"for {n} x {n} Gaussian noise (smooth line). A curve above the expected one means moduli crowded "
             "towards the centre; below it, moduli spread outwards. ")
+    if beyond:
+        text += f"The axis ends at s = {_RADIAL_AXIS_END:g}; {beyond} eigenvalue(s) lie beyond. "
     if draws:
         shown = ", ".join(f"{k}={v!r}" for k, v in policy.items())
         return text + (f"The band holds, at each s, the central 95% of the curves of {draws} simulated Gaussian "
@@ -496,19 +511,22 @@ def _pmf_figure(result, Figure):
     test = result.tests.get("real_count")
     if test is None:
         return title, "not drawn: real_count was not among the statistics tested.", None
+    from matplotlib.ticker import MaxNLocator
+
     n, observed = result.n, int(round(test.statistic))
     k, pmf = np.arange(n + 1), ginibre.real_count_pmf(n)
     visible = k[(pmf > _PMF_FLOOR) | (k == observed)]
     keep = (k >= visible.min()) & (k <= visible.max()) & (k % 2 == n % 2)
-    figure = Figure(figsize=(6.0, 4.2), layout="constrained")
+    figure = Figure(figsize=(5.2, 3.7), layout="constrained")
     ax = figure.add_subplot()
     ax.bar(k[keep], pmf[keep], width=1.6, color="#9fb8d6", label="exact null distribution (Gaussian)")
     if test.null_distribution is not None:
         drawn = np.bincount(np.rint(test.null_distribution).astype(int), minlength=n + 1) / test.null_distribution.size
         ax.plot(k[keep], drawn[keep], "o", ms=4, color="#33404c", label=f"drawn null ({test.null_distribution.size} draws)")
     ax.axvline(observed, color="#c0392b", lw=2, label=f"your matrix: {observed}")
-    ax.set(xlabel="number of real eigenvalues", ylabel="probability")
-    ax.legend(loc="upper right", fontsize="small")
+    ax.set(xlabel="number of real eigenvalues", ylabel="probability", ylim=(0.0, 1.3 * pmf[keep].max()))
+    ax.xaxis.set_major_locator(MaxNLocator(integer=True))
+    ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.2), ncol=2, fontsize="small", frameon=False)
     caption = (f"Bars: the exact probability of each number of real eigenvalues for {n} x {n} Gaussian noise "
                f"(mean {ginibre.real_count_mean(n):.2f}). Red line: your matrix. Too many real eigenvalues "
                "point at reciprocal coupling (A_ij close to A_ji), too few at antagonistic coupling.")
