@@ -204,8 +204,8 @@ td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: now
 td.labels { overflow-wrap: anywhere; }
 .small { color: #4a5561; font-size: 0.88em; }
 .figures { display: grid; grid-template-columns: 1fr 1fr; gap: 20px; align-items: start; }
-.figures figure:first-child { grid-row: span 2; }
-@media (max-width: 900px) { .figures { grid-template-columns: 1fr; } .figures figure:first-child { grid-row: auto; } }
+.figures figure.tall { grid-row: span 2; }
+@media (max-width: 900px) { .figures { grid-template-columns: 1fr; } .figures figure.tall { grid-row: auto; } }
 figure { margin: 0; padding: 10px; border: 1px solid #e3e7eb; border-radius: 6px; }
 figure img { width: 100%; height: auto; display: block; }
 figcaption { font-size: 0.9em; color: #33404c; margin-top: 6px; }
@@ -346,18 +346,20 @@ def _html_figures(result):
     except ImportError:
         return (f'<h2>Figures</h2>\n<p class="note">{_e(PLOT_HINT)}. Every number is in the tables of '
                 "this page.</p>")
-    blocks = [_figure_block(*draw(result, Figure)) for draw in (_plane_figure, _radial_figure, _pmf_figure)]
+    blocks = [_figure_block(*_plane_figure(result, Figure), tall=True),
+              _figure_block(*_radial_figure(result, Figure)), _figure_block(*_pmf_figure(result, Figure))]
     return '<h2>Figures</h2>\n<div class="figures">\n' + "\n".join(blocks) + "\n</div>"
 
 
-def _figure_block(title, caption, figure):
-    """A ``<figure>`` with the PNG inline, or a note saying why it could not be drawn."""
+def _figure_block(title, caption, figure, tall=False):
+    """A ``<figure>`` with the PNG inline (``tall``: it spans two rows), or a note saying why it is absent."""
     if figure is None:
         return f'<figure><p class="note"><strong>{_e(title)}</strong>: {_e(caption)}</p></figure>'
     buffer = io.BytesIO()
     figure.savefig(buffer, format="png", dpi=_DPI)
     data = base64.b64encode(buffer.getvalue()).decode("ascii")
-    return (f'<figure><img src="data:image/png;base64,{data}" alt="{_e(title)}">'
+    kind = ' class="tall"' if tall else ""
+    return (f'<figure{kind}><img src="data:image/png;base64,{data}" alt="{_e(title)}">'
             f"<figcaption><strong>{_e(title)}.</strong> {_e(caption)}</figcaption></figure>")
 
 
@@ -397,7 +399,7 @@ def _square_limits(z, radius):
     """Axis limits holding the disk of ``radius`` and every point, padded, with equal spans (a square box)."""
     low = np.minimum([z.real.min(), z.imag.min()], -radius)
     high = np.maximum([z.real.max(), z.imag.max()], radius)
-    half = 0.54 * float(np.max(high - low))
+    half = 0.58 * float(np.max(high - low))  # 16% padding: room for the outlier numbers
     middle = (low + high) / 2
     return (middle[0] - half, middle[0] + half), (middle[1] - half, middle[1] + half)
 
