@@ -18,7 +18,8 @@ Each spectrum is checked against determinants before it is used: ``det(I + (z**2
 ``prod(1 + (z**2 - 1) p_i)`` at ``z = 1/2`` (M = Ms or C); for odd n the same value also equals Edelman's
 bordered-determinant ratio ``det X(z) / (z det X(1))``; and ``prod mu = 2**(-n(n-1)/4)`` (Edelman 1997).
 The pmf is the Poisson-binomial recursion in mpmath.  Values are stored as decimal strings with 25
-significant digits (many are far below the float64 range).
+significant digits (many are far below the float64 range).  For each entry the file also stores its
+sensitivity ``S_k`` (see ``sensitivity``), from which the tests derive their float64 tolerance.
 """
 
 import json
@@ -113,14 +114,32 @@ def poisson_binomial(params):
     return pmf
 
 
+def sensitivity(params, counts):
+    """``S_k = sum_i |P^(-i)(k-1) - P^(-i)(k)| / P(k)``: the first-order relative change of ``P(k)`` per
+    unit absolute change of every parameter (``P^(-i)`` is the pmf without parameter ``i``)."""
+    total = [mp.mpf(0)] * len(counts)
+    for i in range(len(params)):
+        rest = poisson_binomial(params[:i] + params[i + 1:]) + [mp.mpf(0)]
+        for k in range(len(counts)):
+            below = rest[k - 1] if k > 0 else mp.mpf(0)
+            total[k] += abs(below - rest[k])
+    return [t / c for t, c in zip(total, counts)]
+
+
 def reference(n):
-    mp.mp.dps = int(0.75 * n) + 40
+    """Parameters, pmf, sensitivities, mean and variance for size ``n`` at ``0.75 n + 40`` digits."""
+    with mp.workdps(int(0.75 * n) + 40):
+        return _reference_at_current_precision(n)
+
+
+def _reference_at_current_precision(n):
     params = even_params(n) if n % 2 == 0 else odd_params(n)
     counts = poisson_binomial(params)
     pmf = {str(n % 2 + 2 * j): mp.nstr(v, 25) for j, v in enumerate(counts)}
+    sens = {str(n % 2 + 2 * j): mp.nstr(v, 3) for j, v in enumerate(sensitivity(params, counts))}
     mean = n % 2 + 2 * mp.fsum(params)
     var = 4 * mp.fsum(p * (1 - p) for p in params)
-    return {"dps": mp.mp.dps, "params": [mp.nstr(p, 25) for p in params], "pmf": pmf,
+    return {"dps": mp.mp.dps, "params": [mp.nstr(p, 25) for p in params], "pmf": pmf, "sensitivity": sens,
             "mean": mp.nstr(mean, 25), "var": mp.nstr(var, 25)}
 
 
