@@ -58,6 +58,16 @@ def _number_or_word(text):
         return text
 
 
+def _statistics_list(text):
+    """``--statistics``: a comma-separated list of statistic names."""
+    names = [name.strip() for name in text.split(",") if name.strip()]
+    unknown = [name for name in names if name not in _STATISTICS]
+    if unknown or not names:
+        raise argparse.ArgumentTypeError(
+            f"expected a comma-separated list of {', '.join(_STATISTICS)}; got {text!r}")
+    return tuple(names)
+
+
 def _add_analysis_options(parser, null_default="auto"):
     group = parser.add_argument_group("analysis")
     group.add_argument("--null", choices=_NULLS, default=null_default,
@@ -65,8 +75,8 @@ def _add_analysis_options(parser, null_default="auto"):
                             "exact Gaussian above)")
     group.add_argument("--within", choices=_WITHIN,
                        help="what the permutation null shuffles (with --null permutation; default: all entries)")
-    group.add_argument("--statistics", nargs="+", choices=_STATISTICS, metavar="NAME",
-                       help=f"statistics to test (default: all of {', '.join(_STATISTICS)})")
+    group.add_argument("--statistics", type=_statistics_list, metavar="NAMES",
+                       help=f"comma-separated statistics to test (default: {','.join(_STATISTICS)})")
     group.add_argument("--n-resamples", type=int, default=999, metavar="B", help="null draws (default: 999)")
     group.add_argument("--all-draws", action="store_true",
                        help="draw all B even when the decision is settled early (no sequential stopping)")
@@ -147,7 +157,7 @@ def _test_options(args):
                "center": args.center, "scale": args.scale, "diagonal": args.diagonal, "rng": args.seed,
                "n_jobs": args.jobs, "progress": _PROGRESS[args.progress], "sequential": not args.all_draws}
     if args.statistics:
-        options["statistics"] = tuple(args.statistics)
+        options["statistics"] = args.statistics
     return options
 
 

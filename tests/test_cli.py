@@ -44,7 +44,7 @@ def _run(argv, capsys):
 
 
 def _subprocess(*args, stdin=None, command=None):
-    env = {**os.environ, "NULLSPEC_CACHE_DIR": os.environ["NULLSPEC_CACHE_DIR"]}
+    env = dict(os.environ)  # carries the test's private NULLSPEC_CACHE_DIR
     command = command or [sys.executable, "-m", "nullspec"]
     return subprocess.run([*command, *args], input=stdin, capture_output=True, text=True, timeout=120, env=env)
 
@@ -169,6 +169,14 @@ def test_analysis_options_reach_the_test(noise_npy, capsys):
     assert code == 0 and list(data["tests"]) == ["edge"] and data["alpha"] == 0.1 and data["n_resamples"] == 19
     assert data["standardization"]["center"] == 0.0 and data["standardization"]["scale"] == "mad"
     assert "within='rows'" in data["tests"]["edge"]["method"]
+
+
+def test_statistics_are_a_comma_separated_list(noise_npy, capsys):
+    code, out, _ = _run(["report", str(noise_npy), *GAUSSIAN, "--statistics", "edge,real_count", "--format",
+                         "json"], capsys)
+    assert code == 0 and list(_strict_json(out)["tests"]) == ["edge", "real_count"]
+    code, _, err = _run(["report", str(noise_npy), "--statistics", "edge,radius"], capsys)
+    assert code == 2 and "expected a comma-separated list of real_count, radial, edge; got 'edge,radius'" in err
 
 
 def test_progress_goes_to_stderr_only(noise_npy):
@@ -345,9 +353,8 @@ def test_input_files_are_never_modified(planted_csv, noise_npy, tmp_path, capsys
 
 
 def test_broken_pipe_exits_quietly(noise_npy):
-    env = {**os.environ}
     with subprocess.Popen([sys.executable, "-m", "nullspec", "report", str(noise_npy), *GAUSSIAN],
-                          stdout=subprocess.PIPE, stderr=subprocess.PIPE, env=env) as proc:
+                          stdout=subprocess.PIPE, stderr=subprocess.PIPE) as proc:
         proc.stdout.close()  # the reader goes away before anything is written (the child is still importing)
         err = proc.stderr.read().decode()
         code = proc.wait(timeout=120)
