@@ -422,7 +422,7 @@ class SpectralTestResult:
         return "\n".join(lines)
 
     def _cautions(self):
-        first = _CAUTIONS[0].format(null_description=self.null_description)
+        first = _CAUTIONS[0].format(null_description=self.null_description.rstrip(".") + ".")
         return "How to read this:\n" + "\n".join(f"  - {c}" for c in (first, *_CAUTIONS[1:]))
 
 

@@ -199,7 +199,6 @@ def test_sequential_decision_agrees_with_full_run():
     assert stopped > 100  # the check was exercised
 
 
-@pytest.mark.slow
 def test_sequential_pvalues_valid_under_the_null():
     # Exchangeable data and draws: P(p <= u) <= u for the Besag-Clifford p-values.  R = 20000 replicates;
     # the rate at u is compared with the upper end of the binomial 99% band around u.
