@@ -14,8 +14,9 @@ Statistic: the real count K = #{Im λ == 0} of a permuted matrix (all N² entrie
   for the full pipeline (standardise, spectrum, real_count + radial + edge), at N = 50, 100, 400;
 - the Gaussian null drawn dense vs in Hessenberg form (THEORY.md §9), in-process.
 
-Each round times every method once, interleaved, after waiting (up to a limit) for the 1-minute
-load average to fall; the JSON keeps every round and the medians. Run from the repository root:
+Each round times every method once, interleaved, after waiting (up to a limit) until other
+processes leave the CPU nearly idle; the JSON keeps every round, the medians, and the medians of
+the per-round ratios. Run from the repository root:
 
     python benchmarks/bench_nulls.py            # writes benchmarks/results/nulls.json
     python benchmarks/bench_nulls.py --quick    # a smoke run, nothing written
@@ -119,12 +120,28 @@ def timed_rate(func, b):
     return b / (time.perf_counter() - start)
 
 
-def wait_for_quiet(max_load, patience):
-    """Wait up to `patience` s for the 1-min load average to drop below `max_load`; return it."""
+def busy_fraction(interval):
+    """Fraction of the machine's CPU time spent busy over `interval` seconds (this process sleeps,
+    so it is the other processes' share); from /proc/stat, or the load average elsewhere."""
+    try:
+        with open("/proc/stat") as f:
+            before = [int(x) for x in f.readline().split()[1:]]
+        time.sleep(interval)
+        with open("/proc/stat") as f:
+            after = [int(x) for x in f.readline().split()[1:]]
+    except OSError:
+        return os.getloadavg()[0] / CORES
+    delta = [b - a for a, b in zip(before, after)]
+    return 1.0 - (delta[3] + delta[4]) / max(sum(delta), 1)  # fields 3, 4: idle, iowait
+
+
+def wait_for_quiet(max_busy, patience):
+    """Wait up to `patience` s until other processes use less than `max_busy` of the CPU."""
     deadline = time.time() + patience
-    while os.getloadavg()[0] > max_load and time.time() < deadline:
-        time.sleep(5)
-    return os.getloadavg()[0]
+    busy = busy_fraction(2.0)
+    while busy > max_busy and time.time() < deadline:
+        busy = busy_fraction(2.0)
+    return busy
 
 
 def throughput_round(n, b, seed):
@@ -184,18 +201,25 @@ def summarize_throughput(rounds):
 
 
 def cold_loky_seconds(seed):
-    """Wall time of a tiny loky run on a fresh pool (start-up cost)."""
+    """Wall time of a tiny loky run (8 one-draw batches at N = 20) on a fresh pool, minus warm."""
     from joblib.externals.loky import get_reusable_executor
 
-    get_reusable_executor().shutdown(wait=True)
     a = np.random.default_rng(seed).standard_normal((20, 20))
-    start = time.perf_counter()
-    engine(a, 4, seed, 2, backend="loky")
-    return time.perf_counter() - start
+
+    def tiny():
+        start = time.perf_counter()
+        with parallel_config(backend="loky"):
+            draw_null(a, Permutation(), real_count, n_resamples=8, rng=seed, n_jobs=2, batch_size=1,
+                      progress=False)
+        return time.perf_counter() - start
+
+    get_reusable_executor().shutdown(wait=True)
+    cold = tiny()
+    return {"cold": cold, "warm": tiny()}
 
 
-def run(rounds, scale, max_load, patience):
-    out = {"throughput": {}, "prefer": {}, "hessenberg": {}, "loads": []}
+def run(rounds, scale, max_busy, patience):
+    out = {"throughput": {}, "prefer": {}, "hessenberg": {}, "busy_before_rounds": []}
     for kind, sizes, measure in (
         ("throughput", THROUGHPUT_SIZES, throughput_round),
         ("prefer", PREFER_SIZES, prefer_round),
@@ -205,7 +229,7 @@ def run(rounds, scale, max_load, patience):
             b = max(int(REPLICATES[n] * scale), 2 * CORES)
             per_round = []
             for r in range(rounds):
-                out["loads"].append(wait_for_quiet(max_load, patience))
+                out["busy_before_rounds"].append(wait_for_quiet(max_busy, patience))
                 per_round.append(measure(n, b, 1000 * n + r))
             out[kind][str(n)] = {"replicates": b, "rounds": per_round, "median": medians(per_round)}
             print(kind, n, {k: round(v, 3) for k, v in medians(per_round).items()}, flush=True)
@@ -218,7 +242,7 @@ def run(rounds, scale, max_load, patience):
         }
     for entry in out["hessenberg"].values():
         entry["gain"] = float(np.median([r["hessenberg"] / r["dense"] for r in entry["rounds"]]))
-    out["cold_loky_seconds"] = cold_loky_seconds(1)
+    out["loky_start_seconds"] = cold_loky_seconds(1)
     return out
 
 
@@ -239,11 +263,12 @@ def main():
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0], allow_abbrev=False)
     parser.add_argument("--rounds", type=int, default=5)
     parser.add_argument("--quick", action="store_true", help="a short smoke run; writes nothing")
-    parser.add_argument("--max-load", type=float, default=1.0, help="wait while the load is above")
-    parser.add_argument("--patience", type=float, default=120.0, help="longest wait per round (s)")
+    parser.add_argument("--max-busy", type=float, default=0.1,
+                        help="wait while other processes use more than this fraction of the CPU")
+    parser.add_argument("--patience", type=float, default=300.0, help="longest wait per round (s)")
     args = parser.parse_args()
     rounds, scale = (1, 0.1) if args.quick else (args.rounds, 1.0)
-    result = {"environment": environment(), **run(rounds, scale, args.max_load, args.patience)}
+    result = {"environment": environment(), **run(rounds, scale, args.max_busy, args.patience)}
     if not args.quick:
         RESULTS.parent.mkdir(parents=True, exist_ok=True)
         RESULTS.write_text(json.dumps(result, indent=2, allow_nan=False) + "\n")
