@@ -15,14 +15,21 @@ bulk of the spectrum fills the disk of radius ``sqrt(n)``).  The layer is pure: 
 scipy.special only, no I/O, no randomness.
 """
 
-# Each module adds its public names below (one import line per module).
-# -- real_count --
 from .real_count import real_count_mean, real_count_pmf, real_count_var
-# -- densities --
 from .densities import complex_density, real_density
-# -- radial --
 from .radial import expected_outside, expected_within, modulus_cdf
-# -- edge --
 from .edge import spectral_radius_bound, spectral_radius_isf, spectral_radius_sf
 
-__all__ = [name for name in dir() if not name.startswith("_")]
+__all__ = [
+    "real_count_mean",
+    "real_count_var",
+    "real_count_pmf",
+    "real_density",
+    "complex_density",
+    "expected_within",
+    "expected_outside",
+    "modulus_cdf",
+    "spectral_radius_sf",
+    "spectral_radius_isf",
+    "spectral_radius_bound",
+]
