@@ -11,8 +11,9 @@ Two tables, both from one run:
   dense/Nystrom of the medians and the largest difference of the top parameters.
 
 Times are medians over rounds (``--rounds``, fewer for the largest n); the JSON keeps every round,
-the BLAS set-up and the load average before and after, since the machine may be shared.  Run from the
-repository root:
+the BLAS set-up and the 1-minute load average at each size, since the machine may be shared.  Before
+each size the script waits (up to ``--patience`` seconds) for the load average to drop below
+``--max-load``.  Run from the repository root:
 
     python benchmarks/bench_real_count.py          # writes benchmarks/results/real_count.json
     python benchmarks/bench_real_count.py --quick  # n <= 10**4, nothing written
@@ -69,6 +70,14 @@ def _one_thread():
     return threadpool_limits(limits=1, user_api="blas")
 
 
+def wait_for_quiet(max_load, patience):
+    """Sleep until the 1-minute load average is below ``max_load`` or ``patience`` seconds have passed."""
+    deadline = time.monotonic() + patience
+    while os.getloadavg()[0] > max_load and time.monotonic() < deadline:
+        time.sleep(5)
+    return os.getloadavg()[0]
+
+
 def time_regimes(n, rounds):
     """Dense and Nystrom parameters at the same n, timed in alternation."""
     dense_s, nystrom_s = [], []
@@ -102,28 +111,35 @@ def environment():
 
 
 def print_tables(result):
-    print(f"{'n':>9} {'regime':>8} {'params':>7} {'median s':>10} {'1 thread s':>11} {'mean rel err':>13}")
+    print(f"{'n':>9} {'regime':>8} {'params':>7} {'median s':>10} {'1 thread s':>11} {'mean rel err':>13}"
+          f" {'load':>5}")
     for row in result["pmf"]:
         med = row["median_seconds"]
         print(f"{row['n']:>9} {row['regime']:>8} {row['parameters']:>7} {med['default']:>10.4f}"
-              f" {med['one_thread']:>11.4f} {row['mean_rel_error']:>13.1e}")
-    print(f"\n{'n':>9} {'dense s':>10} {'Nystrom s':>10} {'dense/Nys':>10} {'max |diff|':>11}")
+              f" {med['one_thread']:>11.4f} {row['mean_rel_error']:>13.1e} {row['load_average']:>5.2f}")
+    print(f"\n{'n':>9} {'dense s':>10} {'Nystrom s':>10} {'dense/Nys':>10} {'max |diff|':>11} {'load':>5}")
     for row in result["regimes"]:
         print(f"{row['n']:>9} {np.median(row['dense_seconds']):>10.4f} {np.median(row['nystrom_seconds']):>10.4f}"
-              f" {row['dense_over_nystrom']:>10.2f} {row['max_param_difference']:>11.1e}")
+              f" {row['dense_over_nystrom']:>10.2f} {row['max_param_difference']:>11.1e} {row['load_average']:>5.2f}")
 
 
 def main(argv=None):
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--rounds", type=int, default=5, help="timed rounds per size (3 at n >= 1e5)")
     parser.add_argument("--quick", action="store_true", help="n <= 10**4 only; write nothing")
+    parser.add_argument("--max-load", type=float, default=1.5, help="wait for a 1-minute load below this")
+    parser.add_argument("--patience", type=float, default=120.0, help="longest wait per size, seconds")
     args = parser.parse_args(argv)
     limit = 10**4 + 1 if args.quick else max(PMF_SIZES)
     result = {"environment": environment()}
-    result["pmf"] = [time_pmf(n, args.rounds if n < 10**5 else min(args.rounds, 3))
-                     for n in PMF_SIZES if n <= limit]
-    result["regimes"] = [time_regimes(n, args.rounds) for n in REGIME_SIZES]
-    result["environment"]["load_average_after"] = list(os.getloadavg())
+    result["pmf"], result["regimes"] = [], []
+    for n in (n for n in PMF_SIZES if n <= limit):
+        load = wait_for_quiet(args.max_load, args.patience)
+        rounds = args.rounds if n < 10**5 else min(args.rounds, 3)
+        result["pmf"].append({**time_pmf(n, rounds), "load_average": load})
+    for n in REGIME_SIZES:
+        load = wait_for_quiet(args.max_load, args.patience)
+        result["regimes"].append({**time_regimes(n, args.rounds), "load_average": load})
     print_tables(result)
     if not args.quick:
         RESULTS.parent.mkdir(parents=True, exist_ok=True)
