@@ -302,7 +302,8 @@ class TestMonteCarlo:
         observed = np.append(counts[big], counts[~big].sum())
         expected_cells = np.append(expected[big], expected[~big].sum())
         keep = expected_cells > 0
-        result = stats.chisquare(observed[keep], expected_cells[keep] * observed.sum() / expected_cells[keep].sum())
+        scaled = expected_cells[keep] * observed.sum() / expected_cells[keep].sum()
+        result = stats.chisquare(observed[keep], scaled)
         assert result.pvalue > 1e-3
         mean = counts @ np.arange(n + 1) / draws
         assert abs(mean - real_count_mean(n)) < 4 * math.sqrt(real_count_var(n) / draws)
