@@ -305,7 +305,7 @@ def _run(A, opts, rng, n_jobs, progress, stacklevel):
     return SpectralTestResult(
         **branch, alpha=opts["alpha"], significant=bool(branch["pvalue"] <= opts["alpha"]), n=n, null=null_name,
         null_description=description, null_reason=reason, standardization=_standardization(std),
-        reciprocity=_reciprocity(matrix), labels={"rows": rows, "columns": cols},
+        reciprocity=_reciprocity(matrix), labels={"rows": rows, "columns": cols}, eigenvalues=spec.z,
     )
 
 

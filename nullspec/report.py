@@ -363,21 +363,10 @@ def _figure_block(title, caption, figure, tall=False):
             f"<figcaption><strong>{_e(title)}.</strong> {_e(caption)}</figcaption></figure>")
 
 
-def _eigenvalues(result):
-    """The scaled eigenvalues z carried by the result, or None when it carries none."""
-    z = getattr(result, "eigenvalues", None)
-    return None if z is None else np.asarray(z, dtype=complex)
-
-
-_NO_EIGENVALUES = "not drawn: this result carries no eigenvalues (result.eigenvalues)."
-
-
 def _plane_figure(result, Figure):
     """(title, caption, Figure or None): z in the plane, the unit disk, the edge band, the outliers."""
     title = "Eigenvalues in the plane"
-    z = _eigenvalues(result)
-    if z is None:
-        return title, _NO_EIGENVALUES, None
+    z = result.eigenvalues
     inner, outer = ginibre.spectral_radius_isf(np.array(_BAND_LEVELS), result.n) / np.sqrt(result.n)
     figure = Figure(figsize=(5.2, 5.7), layout="constrained")
     ax = figure.add_subplot()
@@ -430,10 +419,7 @@ def _mark_outliers(ax, outliers):
 def _radial_figure(result, Figure):
     """(title, caption, Figure or None): the modulus ECDF, the exact expected CDF and the null band."""
     title = "Radial profile"
-    z = _eigenvalues(result)
-    if z is None:
-        return title, _NO_EIGENVALUES, None
-    n, moduli = result.n, np.sort(np.abs(z))
+    n, moduli = result.n, np.sort(np.abs(result.eigenvalues))
     top = min(max(1.35, 1.04 * float(moduli[-1])), _RADIAL_AXIS_END)
     figure = Figure(figsize=(5.2, 3.9), layout="constrained")
     ax = figure.add_subplot()

@@ -323,6 +323,10 @@ class SpectralTestResult:
         The warnings raised during the test.
     labels : Mapping
         ``rows`` and ``columns`` labels of the input (None when it had none).
+    eigenvalues : ndarray
+        Read-only complex array of the scaled eigenvalues z = (lambda - shift) / (sigma_hat sqrt(N)) in
+        LAPACK's order; under the null they fill the unit disk.  ``to_dict`` stores them as
+        ``{"re": [...], "im": [...]}``.
     """
 
     tests: Mapping
@@ -341,12 +345,16 @@ class SpectralTestResult:
     entropy: int | None
     warnings: tuple
     labels: Mapping
+    eigenvalues: np.ndarray
 
     def __post_init__(self):
         for name in ("tests", "standardization", "reciprocity", "labels"):
             object.__setattr__(self, name, _FrozenMap(getattr(self, name)))
         object.__setattr__(self, "outliers", tuple(self.outliers))
         object.__setattr__(self, "warnings", tuple(self.warnings))
+        z = np.array(self.eigenvalues, dtype=complex)
+        z.setflags(write=False)
+        object.__setattr__(self, "eigenvalues", z)
 
     __repr__ = _repr
 
@@ -358,7 +366,9 @@ class SpectralTestResult:
         dict
             All fields, plus ``schema_version`` and ``nullspec_version``.
         """
-        return {"schema_version": SCHEMA_VERSION, "nullspec_version": __version__, **_jsonable(self)}
+        out = {"schema_version": SCHEMA_VERSION, "nullspec_version": __version__, **_jsonable(self)}
+        out["eigenvalues"] = {"re": _jsonable(self.eigenvalues.real), "im": _jsonable(self.eigenvalues.imag)}
+        return out
 
     def summary(self):
         """Plain-text report: statistics, omnibus, outliers, warnings and how to read them.

@@ -17,7 +17,7 @@ PACKAGE = pathlib.Path(nullspec.__file__).parent
 # Lowest first.  Same-layer imports are allowed.
 LAYERS = (
     ("ginibre", "_lapack"),
-    ("exceptions", "_validation", "_diagnostics", "_rng", "_cache"),
+    ("exceptions", "_validation", "_diagnostics", "_rng", "_cache", "_radial_table"),
     ("standardize",),
     ("spectrum",),
     ("statistics",),

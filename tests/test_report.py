@@ -36,11 +36,6 @@ pd = pytest.importorskip("pandas")  # labels reach spectral_test through a DataF
 HOSTILE = ("<script>alert(1)</script>", "\"&'", "a<b>c")
 HOSTILE_SOURCE = "<img src=x onerror=alert(2)>.csv"
 FAST = {"null": "gaussian", "statistics": ("real_count", "edge")}  # exact null: no simulation
-NEEDS_EIGENVALUES = pytest.mark.skipif(
-    not hasattr(SpectralTestResult, "eigenvalues"),
-    reason="SpectralTestResult has no `eigenvalues` field yet (the lead adds it); the plane and radial "
-           "figures are drawn from it",
-)
 CAUTION_TOPICS = ("What the null assumes", "it is not an effect size", "Multiple testing",
                   "Significance is not mechanism", "your knowledge of the system to judge")
 
@@ -166,7 +161,8 @@ def _result_with_nan():
         standardization={"center": "mean", "scale": "sd", "diagonal": "include", "center_value": 0.0,
                          "scale_value": 1.0, "shift": 0.0},
         reciprocity={"value": float("nan"), "interval": (float("nan"), float("nan"))}, n_resamples=None,
-        entropy=None, warnings=[f"a warning about {HOSTILE[0]}"], labels={"rows": HOSTILE, "columns": HOSTILE})
+        entropy=None, warnings=[f"a warning about {HOSTILE[0]}"], labels={"rows": HOSTILE, "columns": HOSTILE},
+        eigenvalues=np.array([1.3 + 0.0j, 0.2 + 0.1j, 0.2 - 0.1j]))
 
 
 def test_json_turns_nan_and_infinity_into_null():
@@ -240,7 +236,6 @@ def test_figures_are_skipped_with_a_note_when_a_statistic_is_absent():
     assert "not drawn: real_count was not among the statistics tested." in render(result, "html")
 
 
-@NEEDS_EIGENVALUES
 def test_plane_and_radial_figures_are_drawn(planted):
     pytest.importorskip("matplotlib")
     page = render(planted, "html")

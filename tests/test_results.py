@@ -50,6 +50,7 @@ def _result(**kw):
         "entropy": None,
         "warnings": ["a warning"],
         "labels": {"rows": ("r0", "r1", "r2", "r3"), "columns": None},
+        "eigenvalues": np.array([2.1 + 0.0j, 0.3 + 0.4j, 0.3 - 0.4j, -0.5 + 0.0j]),
     }
     fields.update(kw)
     return SpectralTestResult(**fields)
