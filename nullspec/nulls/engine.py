@@ -217,7 +217,11 @@ class _Runner:
     """
 
     def __init__(self, n_jobs, n_tasks):
-        parallel = Parallel(n_jobs=n_jobs, prefer=_PREFER, return_as="generator_unordered")
+        # batch_size=1: a task is already ~75 ms of work; joblib's automatic grouping would bundle
+        # several and leave a worker idle at the end of a round.
+        parallel = Parallel(
+            n_jobs=n_jobs, prefer=_PREFER, return_as="generator_unordered", batch_size=1
+        )
         pooled = parallel.n_jobs != 1 and n_tasks >= _MIN_TASKS_FOR_POOL
         self.parallel = parallel if pooled else None
         self.backend = _backend_name() if pooled else "in-process"
