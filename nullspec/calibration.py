@@ -46,12 +46,15 @@ from fractions import Fraction
 import functools
 import importlib
 import math
+import warnings
 
 import numpy as np
 from statsmodels.stats.proportion import proportion_confint
 
 from . import _cache, statistics
+from .exceptions import InterruptedNullWarning
 from .ginibre import real_count_mean, real_count_pmf, real_count_var, spectral_radius_isf, spectral_radius_sf
+from .nulls import Gaussian, draw_null
 from .spectrum import compute_spectrum
 from .standardize import standardize
 
@@ -62,6 +65,7 @@ __all__ = [
     "edge_calibration",
     "radial_calibration",
     "radial_table_pvalue",
+    "surrogate_statistics",
     "simulate_radial_null",
     "radial_null_sample",
     "holm_omnibus",
@@ -83,6 +87,9 @@ _CONFIDENCE = 0.95
 _EFFECT_QUANTILE = 0.01  # edge effect: rho over the finite-N 99% point of rho
 _DEFAULT_POLICY = ("mean", "sd", "include")
 _ON_DEMAND_SEED = 20240917  # with (n, policy) it fixes the seed of an on-demand radial null sample
+# Names the random stream of on-demand samples (in the cache key and metadata): "engine2" draws through
+# nullspec.nulls.draw_null's batches; files of the earlier sequential stream are not reused.
+_ON_DEMAND_STREAM = "engine2"
 
 
 def _table():
@@ -370,13 +377,54 @@ def radial_table_pvalue(w2, n, alternative="greater"):
     return p, bounded, np.stack([both.min(axis=0), both.max(axis=0)])
 
 
-def simulate_radial_null(n, *, center="mean", scale="sd", diagonal="include", n_reps, seed):
+def surrogate_statistics(matrix, *, names, policy):
+    """The statistics ``names`` of one matrix through the test pipeline: standardise, spectrum, statistics.
+
+    The one definition of what a test computes on a matrix, shared by the drawn nulls of
+    :mod:`nullspec.inference` and the simulated radial null (module level, so it pickles for
+    process backends).
+
+    Parameters
+    ----------
+    matrix : ndarray, shape (n, n)
+        The matrix; not modified.
+    names : sequence of str
+        Statistic names (:data:`nullspec.statistics.STATISTICS`).
+    policy : dict
+        ``center``, ``scale`` and ``diagonal`` for :func:`nullspec.standardize.standardize`.
+
+    Returns
+    -------
+    ndarray, shape (len(names),)
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from nullspec.calibration import surrogate_statistics
+    >>> a = np.random.default_rng(0).standard_normal((20, 20))
+    >>> policy = {"center": "mean", "scale": "sd", "diagonal": "include"}
+    >>> surrogate_statistics(a, names=("real_count", "edge"), policy=policy).round(3).tolist()
+    [6.0, 1.001]
+    """
+    std = standardize(matrix, **policy)
+    return statistics.evaluate(compute_spectrum(std.matrix), names)
+
+
+#: The radial null's entry law: i.i.d. N(0, 1), dense draws (the default pipeline centres by the mean).
+_RADIAL_NULL_MODEL = Gaussian(loc=0.0, scale=1.0, hessenberg=False)
+
+
+def simulate_radial_null(n, *, center="mean", scale="sd", diagonal="include", n_reps, seed, n_jobs=None,
+                         progress=None):
     """Simulate the radial statistic under i.i.d. Gaussian entries through the standard pipeline.
 
-    Each replicate draws an ``n x n`` matrix of i.i.d. N(0, 1) entries and runs exactly what a test
-    runs: :func:`nullspec.standardize.standardize` with the given policy, the spectrum, and
-    :func:`nullspec.statistics.radial`.  A given center or scale (a number) is replaced by 0 or 1:
+    Each replicate is an ``n x n`` matrix of i.i.d. N(0, 1) entries drawn by the drawn-null engine
+    (:func:`nullspec.nulls.draw_null` with :class:`nullspec.nulls.Gaussian`) and run through exactly
+    what a test runs (:func:`surrogate_statistics`: standardisation with the given policy, spectrum,
+    :func:`nullspec.statistics.radial`).  A given center or scale (a number) is replaced by 0 or 1:
     under the null the entries have that mean and scale, so the standardised matrix has the same law.
+    Replicate ``j`` is a function of the seed, ``n`` and ``j`` only (the engine's batches), so the
+    sample is the same for any ``n_jobs``; BLAS is held to one thread while it runs.
 
     Parameters
     ----------
@@ -387,44 +435,56 @@ def simulate_radial_null(n, *, center="mean", scale="sd", diagonal="include", n_
     n_reps : int
         Number of replicates.
     seed : int, sequence of int or numpy.random.SeedSequence
-        Seed of the generator; the same seed gives the same sample.
+        Root seed of the engine; the same seed gives the same sample.
+    n_jobs : int, optional
+        Parallel workers (joblib's meaning, as in :func:`nullspec.nulls.draw_null`).
+    progress : bool, optional
+        Progress bar on stderr (tqdm, if installed): None shows it when stderr is a terminal.
 
     Returns
     -------
     ndarray
         ``n_reps`` values of the radial statistic.
 
+    Raises
+    ------
+    KeyboardInterrupt
+        When interrupted: a partial sample is never returned (it would be cached as the null).
+
     Examples
     --------
     >>> from nullspec.calibration import simulate_radial_null
-    >>> w = simulate_radial_null(10, n_reps=5, seed=1)
+    >>> w = simulate_radial_null(10, n_reps=5, seed=1, progress=False)
     >>> w.shape, bool((w > 0).all())
     ((5,), True)
     """
-    center = center if isinstance(center, str) else 0.0
-    scale = scale if isinstance(scale, str) else 1.0
-    rng = np.random.default_rng(seed)
-    out = np.empty(n_reps)
-    for i in range(n_reps):
-        std = standardize(rng.standard_normal((n, n)), center=center, scale=scale, diagonal=diagonal)
-        out[i] = statistics.radial(compute_spectrum(std.matrix))
-    return out
+    policy = {"center": center if isinstance(center, str) else 0.0,
+              "scale": scale if isinstance(scale, str) else 1.0, "diagonal": diagonal}
+    evaluate = functools.partial(surrogate_statistics, names=("radial",), policy=policy)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", InterruptedNullWarning)  # re-raised below as the interrupt it was
+        draws = draw_null(np.zeros((n, n)), _RADIAL_NULL_MODEL, evaluate, n_resamples=n_reps, rng=seed,
+                          n_jobs=n_jobs, progress=progress)
+    if not draws.complete:
+        raise KeyboardInterrupt
+    return np.array(draws.values[:, 0])
 
 
 def _on_demand_reps(n):
     """Draws of an on-demand radial null: 2000 up to N = 200, 1000 up to 500, then 500 (cost ~ N^3).
 
     500 draws resolve p-values down to 1/501 and put a 95% Monte Carlo interval of about +-0.02 around
-    a p-value of 0.05; at N = 800 they cost about two minutes of one core, once.
+    a p-value of 0.05.  The shipped table covers the default policy up to its largest N, so these run
+    only for another policy or beyond the table, once per (N, policy).
     """
     return 2000 if n <= 200 else 1000 if n <= 500 else 500
 
 
-def radial_null_sample(n, *, center="mean", scale="sd", diagonal="include"):
+def radial_null_sample(n, *, center="mean", scale="sd", diagonal="include", n_jobs=None, progress=None):
     """The simulated radial null sample for size ``n`` and a policy, from the on-disk cache or simulated.
 
-    The seed is fixed by ``(n, policy)``, so the sample is the same with or without the cache; the
-    cache (:mod:`nullspec._cache`) only saves the time.
+    The seed is fixed by ``(n, policy)``, so the sample is the same with or without the cache and
+    for any ``n_jobs``; the cache (:mod:`nullspec._cache`) only saves the time.
 
     Parameters
     ----------
@@ -432,26 +492,33 @@ def radial_null_sample(n, *, center="mean", scale="sd", diagonal="include"):
         Matrix size.
     center, scale, diagonal
         The standardisation policy.
+    n_jobs : int, optional
+        Parallel workers of a simulation (:func:`simulate_radial_null`).
+    progress : bool, optional
+        Progress bar on stderr while simulating (None: when stderr is a terminal).
 
     Returns
     -------
     tuple of (ndarray, dict)
-        The sample and its provenance (``seed``, ``n_reps``, ``policy``).
+        The sample and its provenance (``seed``, ``n_reps``, ``policy``, ``stream``).
     """
     kinds = _policy_kinds(center, scale, diagonal)
     codes = [sum(map(ord, k)) for k in kinds]
     seed = np.random.SeedSequence([_ON_DEMAND_SEED, int(n), *codes])
     reps = _on_demand_reps(n)
-    meta = {"n": int(n), "policy": list(kinds), "n_reps": reps, "seed": [_ON_DEMAND_SEED, int(n), *codes]}
-    key = f"radial-n{n}-{'-'.join(kinds)}-r{reps}"
+    meta = {"n": int(n), "policy": list(kinds), "n_reps": reps, "seed": [_ON_DEMAND_SEED, int(n), *codes],
+            "stream": _ON_DEMAND_STREAM}
+    key = f"radial-{_ON_DEMAND_STREAM}-n{n}-{'-'.join(kinds)}-r{reps}"
 
     def compute():
-        return simulate_radial_null(n, center=center, scale=scale, diagonal=diagonal, n_reps=reps, seed=seed)
+        return simulate_radial_null(n, center=center, scale=scale, diagonal=diagonal, n_reps=reps, seed=seed,
+                                    n_jobs=n_jobs, progress=progress)
 
     return _cache.cached_array(key, meta, compute), meta
 
 
-def radial_calibration(w2, shift, n, *, alternative="greater", center="mean", scale="sd", diagonal="include"):
+def radial_calibration(w2, shift, n, *, alternative="greater", center="mean", scale="sd", diagonal="include",
+                       n_jobs=None, progress=None):
     """Calibrate the radial statistic under the Gaussian null (table, or cached simulation).
 
     Parameters
@@ -466,6 +533,10 @@ def radial_calibration(w2, shift, n, *, alternative="greater", center="mean", sc
         ``"greater"``: farther from the expected law than the null.
     center, scale, diagonal
         The standardisation policy used on the data.
+    n_jobs : int, optional
+        Parallel workers when a null sample must be simulated (outside the table, not yet cached).
+    progress : bool, optional
+        Progress bar on stderr while simulating (None: when stderr is a terminal).
 
     Returns
     -------
@@ -484,7 +555,8 @@ def radial_calibration(w2, shift, n, *, alternative="greater", center="mean", sc
     if _in_table(n, kinds):
         out = _radial_from_table(w2, n, alternative)
     else:
-        out = _radial_from_sample(w2, n, alternative, center, scale, diagonal)
+        policy = {"center": center, "scale": scale, "diagonal": diagonal}
+        out = _radial_from_sample(w2, n, alternative, policy, {"n_jobs": n_jobs, "progress": progress})
     out.update(
         statistic=float(w2),
         effect_size=float(shift),
@@ -522,9 +594,9 @@ def _table_resolution(alternative):
     return 2 * tail if alternative == "two-sided" else tail
 
 
-def _radial_from_sample(w2, n, alternative, center, scale, diagonal):
+def _radial_from_sample(w2, n, alternative, policy, run):
     """Simulated branch of :func:`radial_calibration` (beyond the table, or another policy)."""
-    sample, meta = radial_null_sample(n, center=center, scale=scale, diagonal=diagonal)
+    sample, meta = radial_null_sample(n, **policy, **run)
     mc = mc_calibration(np.array([w2]), sample[:, None], (alternative,))[0]
     return {
         "expected": float(np.median(sample)),

@@ -121,8 +121,12 @@ def _policy(opts):
 # --------------------------------------------------------------------------- the exact Gaussian null
 
 
-def _gaussian_tests(spec, names, alts, policy):
-    """StatisticResults of the exact Gaussian null, and the Holm omnibus over them."""
+def _gaussian_tests(spec, names, alts, policy, run):
+    """StatisticResults of the exact Gaussian null, and the Holm omnibus over them.
+
+    ``run`` (``n_jobs``, ``progress``) reaches the radial calibration, which simulates its null
+    sample when the table does not cover this N and policy.
+    """
     n = spec.n
     cals = {}
     for name, alt in zip(names, alts):
@@ -132,7 +136,8 @@ def _gaussian_tests(spec, names, alts, policy):
             cals[name] = calibration.edge_calibration(statistics.edge(spec), n, alt)
         else:
             shift = statistics.radial_shift(spec)
-            cals[name] = calibration.radial_calibration(statistics.radial(spec), shift, n, alternative=alt, **policy)
+            cals[name] = calibration.radial_calibration(statistics.radial(spec), shift, n, alternative=alt, **policy,
+                                                        **run)
             cals[name]["details"] = {**cals[name]["details"], "radial_shift": shift}
     pvalue, adjusted = calibration.holm_omnibus([cals[name]["pvalue"] for name in names])
     tests = {}
@@ -186,12 +191,6 @@ def _resolution_warnings(tests, alpha, stacklevel):
 # --------------------------------------------------------------------------- drawn nulls
 
 
-def _evaluate_surrogate(surrogate, *, names, policy):
-    """The statistics of one surrogate through the same pipeline as the data (module level: picklable)."""
-    std = standardize(surrogate, **policy)
-    return statistics.evaluate(compute_spectrum(std.matrix), names)
-
-
 def _run_draws(matrix, model, names, observed, alts, opts, rng, n_jobs, progress):
     """Draw the null (Besag-Clifford stopping when sequential); returns the NullDraws."""
     k = len(alts)
@@ -205,7 +204,7 @@ def _run_draws(matrix, model, names, observed, alts, opts, rng, n_jobs, progress
         stop = calibration.sequential_stop(
             observed[:k], alts, alpha=opts["alpha"], n_resamples=opts["n_resamples"], reference=reference
         )
-    evaluate = functools.partial(_evaluate_surrogate, names=names, policy=_policy(opts))
+    evaluate = functools.partial(calibration.surrogate_statistics, names=names, policy=_policy(opts))
     return draw_null(matrix, model, evaluate, n_resamples=opts["n_resamples"], rng=rng, n_jobs=n_jobs,
                      progress=progress, stop=stop)
 
@@ -255,9 +254,10 @@ def _reciprocity(matrix):
     return {"value": statistics.reciprocity(matrix), "interval": statistics.reciprocity_interval(matrix)}
 
 
-def _gaussian_branch(std, spec, names, alts, opts, labels, stacklevel):
-    """Tests, omnibus and outliers under the exact Gaussian null."""
-    tests, pvalue, omnibus_method = _gaussian_tests(spec, names, alts, _policy(opts))
+def _gaussian_branch(std, spec, names, alts, opts, run, labels, stacklevel):
+    """Tests, omnibus and outliers under the exact Gaussian null (``run`` = (n_jobs, progress))."""
+    tests, pvalue, omnibus_method = _gaussian_tests(spec, names, alts, _policy(opts),
+                                                    {"n_jobs": run[0], "progress": run[1]})
     return {
         "tests": tests, "pvalue": pvalue, "omnibus_method": omnibus_method,
         "outliers": _gaussian_outliers(std, spec, opts["alpha"], labels),
@@ -297,7 +297,7 @@ def _run(A, opts, rng, n_jobs, progress, stacklevel):
         messages += _diagnostics.gaussian_null_warnings(matrix, statistics=names, diagonal=opts["diagonal"],
                                                         stacklevel=stacklevel + 1)
     if model is None:
-        branch = _gaussian_branch(std, spec, names, alts, opts, (rows, cols), stacklevel + 1)
+        branch = _gaussian_branch(std, spec, names, alts, opts, (n_jobs, progress), (rows, cols), stacklevel + 1)
     else:
         branch = _drawn_branch(matrix, std, spec, model, names, alts, opts, (rng, n_jobs, progress), (rows, cols),
                                stacklevel + 1)
@@ -349,9 +349,11 @@ def spectral_test(
     rng : None, int, SeedSequence or Generator, optional
         Seed of a drawn null (same seed, same numbers, for any ``n_jobs``).
     n_jobs : int, optional
-        Parallel workers for a drawn null (joblib's meaning).
+        Parallel workers for a drawn null, or for the one-off simulation of a radial null sample that
+        the shipped table does not cover (a non-default policy, or N beyond the table) (joblib's
+        meaning).
     progress : bool, optional
-        Progress bar on stderr for a drawn null (None: when stderr is a terminal).
+        Progress bar on stderr for a drawn null or that simulation (None: when stderr is a terminal).
     sequential : bool, default=True
         Stop a drawn null early by the Besag-Clifford rule once no statistic can be significant at
         ``alpha`` (:func:`nullspec.calibration.sequential_stop`); False runs all ``n_resamples``.

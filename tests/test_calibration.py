@@ -1,8 +1,10 @@
 """Calibration: discrete and Monte Carlo p-values, the radial table, sequential stopping, omnibus."""
 
+import importlib.util
 import json
 import math
 from pathlib import Path
+import types
 
 import numpy as np
 import pytest
@@ -271,6 +273,48 @@ def test_radial_table_provenance():
     assert len(_radial_table.REPLICATIONS) == len(_radial_table.N_GRID)
 
 
+def _table_script():
+    """validation/make_radial_table.py, imported from its path."""
+    spec = importlib.util.spec_from_file_location("make_radial_table", ROOT / _radial_table.SCRIPT)
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module
+
+
+def test_radial_table_records_streams_and_runs():
+    t = _radial_table
+    assert len(t.STREAMS) == len(t.N_GRID) and set(t.STREAMS) <= {1, 2}
+    covered = [n for run in t.RUNS for n in run["sizes"]]
+    assert sorted(covered) == list(t.N_GRID)  # every row comes from exactly one recorded run
+    for run in t.RUNS:
+        assert {t.STREAMS[t.N_GRID.index(n)] for n in run["sizes"]} == {run["stream"]}
+        assert f"stream {run['stream']}" in t.__doc__
+
+
+def test_table_script_add_keeps_existing_rows(tmp_path):
+    script = _table_script()
+    target = tmp_path / "table.py"
+    script.add_rows([11], n_jobs=1, target=target, reps=lambda n: 200)
+    rows, runs, exponent = script.load_table(target)
+    old, old_runs, _ = script.load_table()
+    assert all(rows[n] == old[n] for n in old)  # merged, not recomputed
+    assert rows[11]["stream"] == script.STREAM and rows[11]["replications"] == 200
+    assert runs[:-1] == old_runs and runs[-1]["sizes"] == (11,) and exponent == _radial_table.SCALE_EXPONENT
+    assert "N in (11,)" in target.read_text()
+    with pytest.raises(SystemExit, match=r"sizes \[11\] are already in the table"):
+        script.add_rows([11, 13], n_jobs=1, source=target, target=target, reps=lambda n: 10)
+
+
+def test_radial_table_covers_sizes_up_to_1000(tmp_path, monkeypatch):
+    # Between 500 and 1000 the p-value is interpolated in the table: no simulation; beyond 1000, a simulation.
+    monkeypatch.setenv("NULLSPEC_CACHE_DIR", str(tmp_path))
+    monkeypatch.setattr(calibration, "simulate_radial_null", lambda n, **kw: np.linspace(0.01, 0.05, kw["n_reps"]))
+    for n in (650, 800, 999, 1000):
+        assert calibration.radial_calibration(0.02, 0.0, n)["method"].startswith("shipped table")
+    assert not list(tmp_path.glob("*.npz"))
+    assert calibration.radial_calibration(0.02, 0.0, 1001)["method"].startswith("simulated Gaussian null")
+
+
 def test_radial_table_is_monotone_and_brackets():
     q = np.array(_radial_table.QUANTILES)
     lo, hi = np.array(_radial_table.LOWER), np.array(_radial_table.UPPER)
@@ -314,6 +358,18 @@ def test_radial_table_size_at_an_untabulated_n():
     assert lo <= (p <= 0.05).mean() <= hi
 
 
+@pytest.mark.slow
+def test_radial_table_size_between_the_added_sizes():
+    # As above, between the rows added by --add: a fresh simulation at N = 700 (between 650 and 800,
+    # a seed the table did not use), R = 1000; the size of the 5% test must lie in the binomial 99% band
+    # for R = 1000 (about +-0.018).  About 4 min of CPU.
+    r, n = 1000, 700
+    w = calibration.simulate_radial_null(n, n_reps=r, seed=424242, n_jobs=2, progress=False)
+    p = calibration.radial_table_pvalue(w, n)[0]
+    lo, hi = _binomial_band(r, 0.05)
+    assert lo <= (p <= 0.05).mean() <= hi
+
+
 # --------------------------------------------------------------------------- on-demand radial null and cache
 
 
@@ -339,6 +395,62 @@ def test_on_demand_radial_null_same_numbers_without_cache(tmp_path, monkeypatch)
     np.testing.assert_array_equal(a, b)  # the seed is fixed by (N, policy)
     c = calibration.radial_calibration(float(np.median(a)), 0.0, 4, scale="mad")
     assert 0.4 < c["pvalue"] < 0.6 and "cached" in c["method"]
+
+
+def test_simulated_radial_null_is_the_same_for_any_n_jobs():
+    # 24 draws at N = 200 are 6 engine batches of 4, enough for the engine to use a pool with 2 workers.
+    one = calibration.simulate_radial_null(200, n_reps=24, seed=11, n_jobs=1, progress=False)
+    two = calibration.simulate_radial_null(200, n_reps=24, seed=11, n_jobs=2, progress=False)
+    np.testing.assert_array_equal(one, two)
+    assert one.shape == (24,) and np.all(one > 0) and len(np.unique(one)) == 24
+
+
+def test_simulated_radial_null_runs_the_test_pipeline():
+    # Draw j of the engine's batch 0 is the j-th standard-normal matrix of default_rng(batch_seed(root, 0)); the
+    # sample must equal the default pipeline (standardise, spectrum, radial) applied to those matrices.
+    from nullspec._rng import batch_seed
+    from nullspec.spectrum import compute_spectrum
+    from nullspec.standardize import standardize
+    from nullspec.statistics import radial
+
+    w = calibration.simulate_radial_null(12, n_reps=5, seed=3, progress=False)
+    rng = np.random.default_rng(batch_seed(np.random.SeedSequence(3), 0))
+    direct = [radial(compute_spectrum(standardize(rng.standard_normal((12, 12))).matrix)) for _ in range(5)]
+    np.testing.assert_allclose(w, direct, rtol=1e-12)
+
+
+def test_on_demand_radial_null_records_its_stream(tmp_path, monkeypatch):
+    monkeypatch.setenv("NULLSPEC_CACHE_DIR", str(tmp_path))
+    _, meta = calibration.radial_null_sample(4, diagonal="shift", n_jobs=1, progress=False)
+    assert meta["stream"] == "engine2" and meta["seed"][:2] == [20240917, 4] and meta["n_reps"] == 2000
+    (stored,) = tmp_path.glob("*.npz")
+    assert stored.name.startswith("radial-engine2-n4-")  # a new key: samples of the older stream are not read
+    assert json.loads(str(np.load(stored)["header"]))["meta"] == meta
+
+
+def test_interrupted_radial_null_is_not_cached(tmp_path, monkeypatch):
+    monkeypatch.setenv("NULLSPEC_CACHE_DIR", str(tmp_path))
+
+    def interrupted(*args, **kwargs):  # what draw_null returns after Ctrl-C: the finished batches only
+        return types.SimpleNamespace(complete=False, values=np.ones((3, 1)))
+
+    monkeypatch.setattr(calibration, "draw_null", interrupted)
+    with pytest.raises(KeyboardInterrupt):
+        calibration.radial_null_sample(7, diagonal="shift")
+    assert not list(tmp_path.glob("*.npz"))
+
+
+def test_radial_calibration_passes_jobs_and_progress_to_the_simulation(tmp_path, monkeypatch):
+    monkeypatch.setenv("NULLSPEC_CACHE_DIR", str(tmp_path))
+    seen = {}
+
+    def record(n, **kwargs):
+        seen.update(kwargs)
+        return np.linspace(0.01, 1.0, kwargs["n_reps"])
+
+    monkeypatch.setattr(calibration, "simulate_radial_null", record)
+    calibration.radial_calibration(0.5, 0.0, 9, diagonal="shift", n_jobs=2, progress=False)
+    assert seen["n_jobs"] == 2 and seen["progress"] is False
 
 
 def test_cache_location_and_stale_entries(tmp_path, monkeypatch):

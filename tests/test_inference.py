@@ -272,6 +272,17 @@ def test_non_default_policy_uses_on_demand_null(tmp_path, monkeypatch):
     assert list(tmp_path.glob("*.npz"))
 
 
+def test_gaussian_null_at_n800_reads_the_table(tmp_path, monkeypatch):
+    # N = 800 lies inside the shipped radial table (up to 1000): the first call simulates nothing and
+    # writes nothing to an empty cache.
+    monkeypatch.setenv("NULLSPEC_CACHE_DIR", str(tmp_path))
+    a = np.random.default_rng(40).standard_normal((800, 800))
+    res = _quiet(spectral_test, a)
+    assert res.null == "gaussian" and res.tests["radial"].method.startswith("shipped table")
+    assert 0.0 < res.tests["radial"].pvalue <= 1.0
+    assert not list(tmp_path.iterdir())
+
+
 # --------------------------------------------------------------------------- drawn nulls
 
 
