@@ -49,7 +49,6 @@ import math
 import warnings
 
 import numpy as np
-from statsmodels.stats.proportion import proportion_confint
 
 from . import _cache, statistics
 from .exceptions import InterruptedNullWarning
@@ -667,6 +666,10 @@ def mc_pvalues(observed, values, alternatives):
 
 def _cp_interval(count, trials, two_sided):
     """95% Clopper-Pearson interval for a tail probability (doubled and capped for two-sided)."""
+    # Imported here: statsmodels (with pandas) is half of the package's import time, and only drawn
+    # nulls and on-demand radial samples need this interval.
+    from statsmodels.stats.proportion import proportion_confint
+
     lo, hi = proportion_confint(count, trials, alpha=1 - _CONFIDENCE, method="beta")
     factor = 2.0 if two_sided else 1.0
     return (min(float(lo) * factor, 1.0), min(float(hi) * factor, 1.0))

@@ -23,7 +23,6 @@ import math
 import warnings
 
 import numpy as np
-from statsmodels.stats.multitest import multipletests
 
 from . import _diagnostics, calibration, statistics
 from ._rng import as_seed_sequence
@@ -145,7 +144,7 @@ def _gaussian_tests(spec, names, alts, policy, run):
         cal = cals[name]
         cal["details"] = {**cal["details"], "pvalue_holm": float(holm)}
         tests[name] = StatisticResult(name=name, **cal)
-    method = f"Holm across the {len(names)} marginal p-values (statsmodels multipletests, method='holm')"
+    method = f"Holm's step-down adjustment across the {len(names)} marginal p-values (the smallest adjusted one)"
     return tests, pvalue, method
 
 
@@ -564,6 +563,8 @@ def _screen_items(matrices):
 
 def _adjust(pvalues, alpha, method):
     """Adjusted p-values and rejections across matrices; NaN p-values (if any) are left out, never passed in."""
+    from statsmodels.stats.multitest import multipletests  # here: statsmodels is slow to import, screen() alone uses it
+
     adjusted = np.full(pvalues.shape, np.nan)
     reject = np.zeros(pvalues.shape, dtype=bool)
     finite = np.isfinite(pvalues)

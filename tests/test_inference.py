@@ -371,3 +371,13 @@ def test_screen_seeds_per_matrix():
     two = _quiet(screen, mats, null="permutation", n_resamples=49, rng=7, sequential=False)
     assert [r["pvalue"] for r in one.rows] == [r["pvalue"] for r in two.rows]
     assert [r["name"] for r in one.rows] == ["a", "b"] and not math.isnan(one.rows[0]["p_edge"])
+
+
+def test_import_does_not_load_statsmodels_or_pandas():
+    # statsmodels (with pandas) was half of `import nullspec`; it is imported where it is used.
+    import subprocess
+    import sys
+
+    code = "import sys, nullspec; print(sorted(m for m in ('statsmodels', 'pandas', 'sklearn') if m in sys.modules))"
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout
+    assert out.strip() == "[]"
