@@ -33,7 +33,7 @@ def _seed_from_draws(draws):
     return np.random.SeedSequence([int(x) for x in draws])
 
 
-def as_seed_sequence(rng=None):
+def as_seed_sequence(rng=None, *, name="rng"):
     """Normalise a seed or random generator to a root SeedSequence.
 
     Parameters
@@ -43,6 +43,8 @@ def as_seed_sequence(rng=None):
         ints seeds ``SeedSequence(rng)``; a SeedSequence is used as is; a Generator or BitGenerator
         gives a spawned child (so passing the same generator twice gives two different streams,
         as consuming a generator does); a RandomState seeds ``SeedSequence`` from four of its draws.
+    name : str, default="rng"
+        The caller's name for the argument, used in error messages (e.g. ``"random_state"``).
 
     Returns
     -------
@@ -73,10 +75,10 @@ def as_seed_sequence(rng=None):
         # CONVENTIONS.md: a legacy RandomState seeds the SeedSequence from its own output
         return _seed_from_draws(rng.randint(0, 2**63, size=4, dtype=np.int64))
     if rng is None or _is_int_seed(rng):
-        return np.random.SeedSequence(_plain_entropy(rng))
+        return np.random.SeedSequence(_plain_entropy(rng, name))
     raise TypeError(
-        "`rng` must be None, an int, a sequence of ints, a numpy SeedSequence, Generator, "
-        f"BitGenerator or RandomState; got {type(rng).__name__}. Pass e.g. rng=12345 for a "
+        f"`{name}` must be None, an int, a sequence of ints, a numpy SeedSequence, Generator, "
+        f"BitGenerator or RandomState; got {type(rng).__name__}. Pass e.g. {name}=12345 for a "
         "reproducible run."
     )
 
@@ -89,14 +91,14 @@ def _is_int_seed(rng):
     )
 
 
-def _plain_entropy(rng):
+def _plain_entropy(rng, name):
     """Entropy as Python ints (so reports and JSON show plain numbers); rejects negatives."""
     if rng is None:
         return None
     values = [int(x) for x in np.ravel(rng)]
     if min(values) < 0:
         raise ValueError(
-            f"`rng` must be a non-negative integer seed; got {rng!r}. Use e.g. abs() of it."
+            f"`{name}` must be a non-negative integer seed; got {rng!r}. Use e.g. abs() of it."
         )
     return values[0] if np.ndim(rng) == 0 else values
 

@@ -8,6 +8,7 @@ here add the type checks in front of them.
 """
 
 import collections.abc
+import math
 import numbers
 import reprlib
 import sys
@@ -22,6 +23,9 @@ __all__ = [
     "ALTERNATIVES",
     "as_square_matrix",
     "check_square_matrix",
+    "check_flattened_square_width",
+    "check_bool",
+    "check_null_name",
     "check_option",
     "check_option_or_real",
     "check_names",
@@ -250,6 +254,116 @@ def as_square_matrix(a, name="A"):
     arr = check_square_matrix(values, name, minimum=MIN_SIZE)
     _check_not_constant(arr, name)
     return np.array(arr, dtype=np.float64, order="C", copy=True), rows, cols
+
+
+def check_flattened_square_width(n_features, name="X"):
+    """Return N for rows of ``n_features = N * N`` entries (one flattened square matrix per row).
+
+    Parameters
+    ----------
+    n_features : int
+        The number of columns of ``name``.
+    name : str, default="X"
+        Argument name used in the message.
+
+    Returns
+    -------
+    int
+        N, at least :data:`MIN_SIZE`.
+
+    Raises
+    ------
+    ValueError
+        If ``n_features`` is not a perfect square, or its root is below :data:`MIN_SIZE`.
+
+    Examples
+    --------
+    >>> from nullspec._validation import check_flattened_square_width
+    >>> check_flattened_square_width(16)
+    4
+    """
+    n = math.isqrt(n_features)
+    if n * n != n_features or n < MIN_SIZE:
+        rule = "is not a perfect square" if n * n != n_features else f"gives N = {n} < {MIN_SIZE}"
+        raise ValueError(
+            f"`{name}` must hold one flattened N x N matrix per row, i.e. N * N columns with N >= {MIN_SIZE}; "
+            f"got {n_features} column{'s' if n_features != 1 else ''}, which {rule}. Flatten each square matrix "
+            f"row-major, e.g. `{name} = np.stack([A.ravel() for A in matrices])`; for one matrix use "
+            "SignificantModes or spectral_test."
+        )
+    return n
+
+
+def check_bool(value, name):
+    """Return ``value`` as a Python bool if it is True or False (a numpy bool too).
+
+    Parameters
+    ----------
+    value : bool
+        The flag given.
+    name : str
+        Argument name used in the message.
+
+    Returns
+    -------
+    bool
+
+    Raises
+    ------
+    TypeError
+        If ``value`` is not a bool (0, 1, "yes" and None are refused: they hide mistakes).
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from nullspec._validation import check_bool
+    >>> check_bool(np.True_, "sequential")
+    True
+    """
+    if not isinstance(value, (bool, np.bool_)):
+        raise TypeError(f"`{name}` must be True or False; got {_shown(value)}. Pass a bool.")
+    return bool(value)
+
+
+def check_null_name(value, allowed):
+    """Return the name of a null hypothesis if it is one of ``allowed``.
+
+    The caller accepts a null model object too and checks for it first; the message says so.
+
+    Parameters
+    ----------
+    value : str
+        The ``null`` given (not a null model object).
+    allowed : tuple of str
+        The valid names.
+
+    Returns
+    -------
+    str
+        ``value`` unchanged.
+
+    Raises
+    ------
+    TypeError
+        If ``value`` is not a string.
+    ValueError
+        If ``value`` is a string not in ``allowed``.
+
+    Examples
+    --------
+    >>> from nullspec._validation import check_null_name
+    >>> check_null_name("gaussian", ("auto", "gaussian"))
+    'gaussian'
+    """
+    choices = ", ".join(repr(a) for a in allowed)
+    model = "a null model object (a nullspec.nulls.NullModel, e.g. nullspec.nulls.Permutation('rows'))"
+    if not isinstance(value, str):
+        raise TypeError(f"`null` must be one of the strings {choices} or {model}; got {_shown(value)}. "
+                        "Pass one of those.")
+    if value not in allowed:
+        raise ValueError(f"`null` must be one of {choices}; got {value!r}. Pick one of those strings, or pass "
+                         f"{model}.")
+    return value
 
 
 def _real_scalar(value, name, rule):

@@ -29,7 +29,9 @@ from ._rng import as_seed_sequence
 from ._validation import (
     as_square_matrix,
     check_alternative,
+    check_bool,
     check_names,
+    check_null_name,
     check_option,
     check_option_or_real,
     check_positive_int,
@@ -57,7 +59,7 @@ _GAUSSIAN_DESCRIPTION = (
 def _check_arguments(null, statistics_, n_resamples, alternative, center, scale, diagonal, alpha, sequential):
     """Validate every option (the matrix is validated separately); return the normalised values."""
     if not isinstance(null, NullModel):
-        check_option(null, "null", _NULL_STRINGS)
+        check_null_name(null, _NULL_STRINGS)
     names = check_names(statistics_, "statistics", _STATISTICS)
     return {
         "null": null,
@@ -68,15 +70,8 @@ def _check_arguments(null, statistics_, n_resamples, alternative, center, scale,
         "scale": check_option_or_real(scale, "scale", SCALES, positive=True),
         "diagonal": check_option(diagonal, "diagonal", DIAGONALS),
         "alpha": check_probability(alpha, "alpha"),
-        "sequential": _check_bool(sequential, "sequential"),
+        "sequential": check_bool(sequential, "sequential"),
     }
-
-
-def _check_bool(value, name):
-    """``value`` if it is a bool (True or False), else TypeError."""
-    if not isinstance(value, (bool, np.bool_)):
-        raise TypeError(f"`{name}` must be True or False; got {value!r} ({type(value).__name__}). Pass a bool.")
-    return bool(value)
 
 
 def _choose_null(null, n, diagonal):

@@ -26,7 +26,7 @@ from sklearn.utils.parallel import Parallel, delayed
 from sklearn.utils.validation import check_is_fitted, validate_data
 
 from ._rng import as_seed_sequence
-from ._validation import MIN_SIZE, as_square_matrix, check_positive_int
+from ._validation import MIN_SIZE, as_square_matrix, check_flattened_square_width, check_positive_int
 from .inference import _STATISTICS, _check_arguments, edge_test, spectral_test
 from .spectrum import outlier_vectors
 from .standardize import standardize
@@ -34,19 +34,6 @@ from .standardize import standardize
 __all__ = ["SpectralFeatures", "SignificantModes"]
 
 _DTYPES = [np.float64, np.float32]
-
-
-def _flattened_size(width):
-    """N for rows of ``width = N * N`` entries (N >= 3), else a ValueError that says how to fix it."""
-    n = math.isqrt(width)
-    if n * n != width or n < MIN_SIZE:
-        rule = "is not a perfect square" if n * n != width else f"gives N = {n} < {MIN_SIZE}"
-        raise ValueError(
-            f"`X` must hold one flattened N x N matrix per row, i.e. N * N columns with N >= {MIN_SIZE}; "
-            f"got {width} column{'s' if width != 1 else ''}, which {rule}. Flatten each square matrix row-major, e.g. "
-            "`X = np.stack([A.ravel() for A in matrices])`; for one matrix use SignificantModes or spectral_test."
-        )
-    return n
 
 
 def _check_input_features(estimator, input_features):
@@ -206,7 +193,7 @@ class SpectralFeatures(TransformerMixin, BaseEstimator):
             If an option is invalid, or the width of ``X`` is not N * N with N >= 3.
         """
         X = validate_data(self, X, dtype=_DTYPES)
-        self.matrix_size_ = _flattened_size(X.shape[1])
+        self.matrix_size_ = check_flattened_square_width(X.shape[1], "X")
         checked = _check_arguments(self.null, self.statistics, self.n_resamples, self.alternative, self.center,
                                    self.scale, self.diagonal, self.alpha, self.sequential)
         self.test_options_ = {
@@ -214,7 +201,7 @@ class SpectralFeatures(TransformerMixin, BaseEstimator):
             "alternative": checked["alternative"], "center": checked["center"], "scale": checked["scale"],
             "diagonal": checked["diagonal"], "alpha": checked["alpha"], "sequential": checked["sequential"],
         }
-        self.seed_sequence_ = as_seed_sequence(self.random_state)
+        self.seed_sequence_ = as_seed_sequence(self.random_state, name="random_state")
         return self
 
     def seed_for(self, matrix):
@@ -469,7 +456,7 @@ class SignificantModes(TransformerMixin, BaseEstimator):
         cap = None if self.max_components is None else check_positive_int(self.max_components, "max_components")
         policy = {"center": self.center, "scale": self.scale, "diagonal": self.diagonal}
         self.test_result_ = edge_test(matrix, null=self.null, n_resamples=self.n_resamples, alpha=self.alpha,
-                                      rng=as_seed_sequence(self.random_state), n_jobs=self.n_jobs, progress=False,
+                                      rng=as_seed_sequence(self.random_state, name="random_state"), n_jobs=self.n_jobs, progress=False,
                                       **policy)
         std = standardize(matrix, **policy)
         modes = _significant_modes(self.test_result_.outliers, self.test_result_.alpha, cap)

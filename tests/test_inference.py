@@ -39,6 +39,8 @@ def _quiet(fn, *args, **kwargs):
     [
         ({"null": "bogus"}, ValueError, r"`null` must be one of 'auto', 'gaussian', 'permutation', 'bootstrap'; got 'bogus'"),
         ({"null": 3}, TypeError, r"`null` must be one of the strings"),
+        ({"null": "exact"}, ValueError, r"got 'exact'\. Pick one of those strings, or pass a null model object"),
+        ({"sequential": 1}, TypeError, r"`sequential` must be True or False; got 1 \(int\)\. Pass a bool\."),
         ({"statistics": "edge"}, TypeError, r"`statistics` must be a sequence of names.*Wrap a single name"),
         ({"statistics": ("edge", "spread")}, ValueError, r"`statistics` must be one of 'real_count', 'radial', 'edge'; got 'spread'"),
         ({"statistics": ()}, ValueError, r"`statistics` must name at least one"),

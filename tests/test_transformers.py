@@ -310,6 +310,13 @@ def test_option_errors_at_fit(params, error, match):
         SpectralFeatures(**params).fit(_matrices(2))
 
 
+@pytest.mark.parametrize("estimator", [SpectralFeatures, SignificantModes])
+def test_bad_random_state_is_named_as_such(estimator):
+    X = _matrices(2) if estimator is SpectralFeatures else np.random.default_rng(0).standard_normal((12, 12))
+    with pytest.raises(TypeError, match=r"`random_state` must be None, an int, .*; got str\. Pass e\.g\. random_state="):
+        estimator(random_state="seed").fit(X)
+
+
 def test_seed_for_errors():
     f = SpectralFeatures().fit(_matrices(2))
     with pytest.raises(ValueError, match=r"`matrix` must have 144 entries \(N = 12\); got 100"):

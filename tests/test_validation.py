@@ -9,8 +9,11 @@ from nullspec._validation import (
     ALTERNATIVES,
     as_square_matrix,
     check_alternative,
+    check_bool,
     check_eigen_residual,
+    check_flattened_square_width,
     check_names,
+    check_null_name,
     check_option,
     check_option_or_real,
     check_positive_int,
@@ -293,3 +296,40 @@ class TestScalarCheckers:
         assert check_eigen_residual(1e-12, 1e-8, 1.0) is None
         with pytest.raises(ValueError, match=r"`eigenvalues` must hold eigenvalues of `matrix`; got \(3\+1j\), whose"):
             check_eigen_residual(0.5, 1e-8, 3 + 1j)
+
+    @pytest.mark.parametrize("value", [True, False, np.True_, np.False_])
+    def test_check_bool_accepts(self, value):
+        out = check_bool(value, "sequential")
+        assert type(out) is bool and out == bool(value)
+
+    @pytest.mark.parametrize("bad", [1, 0, "yes", None, 1.0])
+    def test_check_bool_errors(self, bad):
+        with pytest.raises(TypeError, match=r"`sequential` must be True or False; got .*\. Pass a bool\."):
+            check_bool(bad, "sequential")
+
+    def test_check_null_name(self):
+        allowed = ("auto", "gaussian")
+        assert check_null_name("auto", allowed) == "auto"
+        with pytest.raises(ValueError, match=r"`null` must be one of 'auto', 'gaussian'; got 'exact'\. Pick one of "
+                                             r"those strings, or pass a null model object \(a nullspec\.nulls\.NullModel"):
+            check_null_name("exact", allowed)
+        with pytest.raises(TypeError, match=r"`null` must be one of the strings 'auto', 'gaussian' or a null model "
+                                            r"object .*; got 3 \(int\)"):
+            check_null_name(3, allowed)
+
+    @pytest.mark.parametrize(("width", "n"), [(9, 3), (16, 4), (10000, 100)])
+    def test_check_flattened_square_width_accepts(self, width, n):
+        assert check_flattened_square_width(width) == n
+
+    @pytest.mark.parametrize(
+        ("width", "match"),
+        [
+            (10, r"`Z` must hold one flattened N x N matrix per row.*got 10 columns, which is not a perfect square"),
+            (1, r"got 1 column, which gives N = 1 < 3"),
+            (4, r"got 4 columns, which gives N = 2 < 3\. Flatten each square matrix row-major, e\.g\. `Z = "),
+        ],
+    )
+    def test_check_flattened_square_width_errors(self, width, match):
+        with pytest.raises(ValueError, match=match):
+            check_flattened_square_width(width, "Z")
+

@@ -92,13 +92,13 @@ Bibliographic details (titles, volumes, pages) are quoted from memory.
 
 import functools
 import math
-import numbers
 from fractions import Fraction
 
 import numpy as np
 from scipy import linalg, special
 from scipy.linalg import lapack
 
+from ._checks import check_size
 from ._special import log1pmx_neg, log_poisson, stirlerr
 
 __all__ = ["real_count_mean", "real_count_pmf", "real_count_var"]
@@ -113,16 +113,6 @@ _SPLITTER = 2.0**27 + 1.0
 _BAND_REACH = 9.8  # kernel entries with |x - y| beyond this are below 3e-22 and dropped
 _LAGUERRE_NODES = 48
 _INV_SQRT_2PI = 1.0 / math.sqrt(2.0 * math.pi)
-
-
-def _check_size(n):
-    """Return ``n`` as a Python int after checking it is a matrix size (an integer >= 1)."""
-    is_int = isinstance(n, numbers.Integral) and not isinstance(n, (bool, np.bool_))
-    if not is_int or n < 1:
-        raise ValueError(
-            f"`n` must be an integer >= 1 (the matrix size); got {n!r}. Pass a positive whole number."
-        )
-    return int(n)
 
 
 def _log_half_binomial(j):
@@ -177,7 +167,7 @@ def real_count_mean(n):
     >>> round(real_count_mean(1000), 6)
     25.721863
     """
-    n = _check_size(n)
+    n = check_size(n)
     first = 0 if n % 2 == 0 else 1
     terms = np.exp(_log_half_binomial(np.arange(first, n, 2)))
     return (n % 2) + math.sqrt(2.0) * math.fsum(terms)
@@ -449,7 +439,7 @@ def real_count_pmf(n):
     >>> print(f"mean {pmf @ np.arange(101):.6f}, P(K=0) {pmf[0]:.6e}")
     mean 8.448906, P(K=0) 3.272944e-05
     """
-    n = _check_size(n)
+    n = check_size(n)
     counts = _poisson_binomial(_bernoulli_params(n))
     pmf = np.zeros(n + 1)
     parity = n % 2
@@ -490,5 +480,5 @@ def real_count_var(n):
     >>> round(real_count_var(10), 10)
     1.7083846455
     """
-    params = _bernoulli_params(_check_size(n))
+    params = _bernoulli_params(check_size(n))
     return 4.0 * math.fsum(params * (1.0 - params))

@@ -318,6 +318,12 @@ class TestValidation:
         with pytest.raises(ValueError, match=message):
             function(bad)
 
+    @pytest.mark.parametrize("function", [real_count_mean, real_count_var, real_count_pmf])
+    def test_size_beyond_the_shared_bound(self, function):
+        # the ginibre layer's one size rule (ginibre._checks.check_size) bounds N at 10**9 for every formula
+        with pytest.raises(ValueError, match=r"`n` must be at most 1e\+09 .*; got 1000000001\. Pass a realistic"):
+            function(10**9 + 1)
+
     def test_numpy_integer_accepted(self):
         assert real_count_mean(np.int64(10)) == real_count_mean(10)
         np.testing.assert_array_equal(real_count_pmf(np.int32(11)), real_count_pmf(11))

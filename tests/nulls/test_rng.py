@@ -77,6 +77,13 @@ def test_negative_seeds_are_rejected(bad):
         as_seed_sequence(bad)
 
 
+def test_errors_name_the_callers_argument():
+    with pytest.raises(TypeError, match=r"`random_state` must be None, an int, .*Pass e\.g\. random_state=12345"):
+        as_seed_sequence("7", name="random_state")
+    with pytest.raises(ValueError, match=r"`random_state` must be a non-negative integer seed; got -1"):
+        as_seed_sequence(-1, name="random_state")
+
+
 def test_batch_seed_equals_spawned_children_of_a_fresh_root():
     # reference: SeedSequence.spawn, whose i-th child has spawn_key (i,)
     children = np.random.SeedSequence(123).spawn(10)
