@@ -36,7 +36,7 @@ __all__ = ["NullDraws", "draw_null", "default_batch_size"]
 
 # Batch-size model: one draw costs about _DRAW_OVERHEAD (shuffle, standardise, statistics) plus the
 # eigenvalue solve, ~2.2 ms at N = 100 on one core and O(N³) (PERFORMANCE.md, dgeev 1 thread).
-_TARGET_BATCH_SECONDS = 0.075
+_TARGET_BATCH_SECONDS = 0.05
 _DRAW_OVERHEAD = 40e-6
 _SOLVE_SECONDS_PER_N3 = 2.2e-9
 _MAX_BATCH = 256
@@ -106,11 +106,12 @@ class NullDraws:
 
 
 def default_batch_size(n):
-    """Draws per batch for N x N matrices: about 75 ms of work on one core, between 1 and 256.
+    """Draws per batch for N x N matrices: about 50 ms of work on one core, between 1 and 256.
 
     A function of N only, never of ``n_jobs``, so the batch plan (hence every draw) is the same
-    however the batches are run. 75 ms keeps joblib's per-task overhead (~1 ms with loky) near 1 %
-    while leaving enough batches to balance two or more workers.
+    however the batches are run. 50 ms keeps joblib's per-task overhead (~1 ms with loky, a few
+    µs with threads) near 2 % or below, while the last batches, which may leave a worker idle, cost
+    at most ~50 ms of one core at the end of a run.
 
     Parameters
     ----------
@@ -125,7 +126,7 @@ def default_batch_size(n):
     --------
     >>> from nullspec.nulls.engine import default_batch_size
     >>> [default_batch_size(n) for n in (10, 50, 100, 200, 400)]
-    [256, 238, 33, 4, 1]
+    [256, 159, 22, 3, 1]
     """
     seconds_per_draw = _DRAW_OVERHEAD + _SOLVE_SECONDS_PER_N3 * float(n) ** 3
     return int(min(max(round(_TARGET_BATCH_SECONDS / seconds_per_draw), 1), _MAX_BATCH))
@@ -212,12 +213,13 @@ def _backend_name():
 class _Runner:
     """Runs rounds of tasks in-process or through one joblib Parallel (pool kept across rounds).
 
-    A run with one worker, or with fewer than _MIN_TASKS_FOR_POOL tasks, stays in-process: a cold
-    process pool costs ~0.3 s to start (PERFORMANCE.md), about four batches of work.
+    A run with one worker, or with fewer than _MIN_TASKS_FOR_POOL tasks (under ~0.2 s of work),
+    stays in-process: a pool could save at most ~0.1 s there, and a cold process pool costs ~0.3 s
+    to start (PERFORMANCE.md).
     """
 
     def __init__(self, n_jobs, n_tasks):
-        # batch_size=1: a task is already ~75 ms of work; joblib's automatic grouping would bundle
+        # batch_size=1: a task is already ~50 ms of work; joblib's automatic grouping would bundle
         # several and leave a worker idle at the end of a round.
         parallel = Parallel(
             n_jobs=n_jobs, prefer=_PREFER, return_as="generator_unordered", batch_size=1
