@@ -40,6 +40,9 @@ __all__ = [
 MIN_SIZE = 3
 ALTERNATIVES = ("two-sided", "greater", "less")
 
+# The attributes that make an object a labelled matrix (nullspec.io.MatrixFile, or any look-alike).
+_LABELLED = ("values", "row_labels", "col_labels")
+
 _REPR = reprlib.Repr()
 _REPR.maxstring = 40
 _REPR.maxother = 40
@@ -77,6 +80,32 @@ def _frame_parts(a, name):
         )
     values = a.to_numpy(dtype=np.float64, na_value=np.nan)
     return values, tuple(str(r) for r in a.index), tuple(str(c) for c in a.columns)
+
+
+def _labelled_parts(a, name):
+    """Split a DataFrame, or an object with ``values``, ``row_labels`` and ``col_labels`` (such as a
+    :class:`nullspec.io.MatrixFile`), into values and string labels; pass anything else through.
+
+    Duck typing: this module sits below :mod:`nullspec.io` and does not import it.
+    """
+    if all(hasattr(a, attribute) for attribute in _LABELLED):
+        return a.values, _label_tuple(a.row_labels), _label_tuple(a.col_labels)
+    return _frame_parts(a, name)
+
+
+def _label_tuple(labels):
+    """Labels as a tuple of str (None stays None)."""
+    return None if labels is None else tuple(str(label) for label in labels)
+
+
+def _check_label_counts(rows, cols, n, name):
+    """Labels, when given, must name each of the N rows (columns)."""
+    for labels, attribute, what in ((rows, "row_labels", "row"), (cols, "col_labels", "column")):
+        if labels is not None and len(labels) != n:
+            raise ValueError(
+                f"`{name}.{attribute}` must hold one label per {what} of the {n} x {n} matrix; got "
+                f"{len(labels)} labels. Pass {n} labels, or None."
+            )
 
 
 def _raise_complex(name):
@@ -221,9 +250,11 @@ def as_square_matrix(a, name="A"):
 
     Parameters
     ----------
-    a : array_like, pandas.DataFrame or numpy.matrix
+    a : array_like, pandas.DataFrame, numpy.matrix or labelled matrix
         The matrix to test: real (bool and integer entries are converted to float), finite, square,
-        at least 3 x 3 and not constant.  It is never modified.
+        at least 3 x 3 and not constant.  It is never modified.  A labelled matrix is any object with
+        ``values``, ``row_labels`` and ``col_labels`` attributes, such as a
+        :class:`nullspec.io.MatrixFile` (labels None or one per row / column).
     name : str, default="A"
         Argument name used in error messages.
 
@@ -232,7 +263,8 @@ def as_square_matrix(a, name="A"):
     matrix : ndarray
         A C-ordered float64 copy of shape (N, N).
     row_labels, col_labels : tuple of str or None
-        The DataFrame's index and columns as strings; None for other inputs.
+        The DataFrame's index and columns, or the labelled matrix's labels, as strings; None for other
+        inputs.
 
     Raises
     ------
@@ -241,7 +273,7 @@ def as_square_matrix(a, name="A"):
         columns in a DataFrame).
     ValueError
         If ``a`` is complex, ragged, not 2-D, not square, smaller than 3 x 3, contains NaN or
-        infinite values, or is constant.
+        infinite values, or is constant, or a labelled matrix has the wrong number of labels.
 
     Examples
     --------
@@ -249,9 +281,14 @@ def as_square_matrix(a, name="A"):
     >>> m, rows, cols = as_square_matrix([[1, 2, 0], [0, 1, 2], [2, 0, 1]])
     >>> m.dtype, m.shape, rows
     (dtype('float64'), (3, 3), None)
+    >>> from types import SimpleNamespace
+    >>> labelled = SimpleNamespace(values=m, row_labels=("a", "b", "c"), col_labels=None)
+    >>> as_square_matrix(labelled)[1:]
+    (('a', 'b', 'c'), None)
     """
-    values, rows, cols = _frame_parts(a, name)
+    values, rows, cols = _labelled_parts(a, name)
     arr = check_square_matrix(values, name, minimum=MIN_SIZE)
+    _check_label_counts(rows, cols, arr.shape[0], name)
     _check_not_constant(arr, name)
     return np.array(arr, dtype=np.float64, order="C", copy=True), rows, cols
 

@@ -14,7 +14,6 @@ Examples::
 
 import argparse
 import contextlib
-import dataclasses
 import json
 import os
 import sys
@@ -166,24 +165,10 @@ def _read(path, args):
                        index_col=_FLAGS[args.index], key=args.key)
 
 
-def _named(indices, labels):
-    return indices if labels is None else tuple(labels[i] for i in indices)
-
-
-def _relabelled(result, matrix_file):
-    """The result with the file's row and column labels in place of indices (spectral_test sees an array)."""
-    rows, columns = matrix_file.row_labels, matrix_file.col_labels
-    if rows is None and columns is None:
-        return result
-    outliers = tuple(dataclasses.replace(o, rows=_named(o.rows, rows), columns=_named(o.columns, columns))
-                     for o in result.outliers)
-    return dataclasses.replace(result, outliers=outliers, labels={"rows": rows, "columns": columns})
-
-
 def _run_report(args):
     matrix = _read(args.file, args)
     _refuse_overwriting_inputs(args.output, [args.file])
-    result = _relabelled(spectral_test(matrix.values, **_test_options(args)), matrix)
+    result = spectral_test(matrix, **_test_options(args))  # the MatrixFile: its labels name the outliers' units
     _emit(render(result, args.format, source=matrix.source, seed=args.seed), args.output)
     return 0
 
@@ -201,8 +186,7 @@ def _run_screen(args):
     files = [_read(path, args) for path in args.files]
     _refuse_overwriting_inputs(args.output, args.files)
     names = _unique_names(args.files)
-    result = screen({name: f.values for name, f in zip(names, files)}, fdr=args.fdr, **_test_options(args))
-    result = dataclasses.replace(result, results=tuple(_relabelled(r, f) for r, f in zip(result.results, files)))
+    result = screen(dict(zip(names, files)), fdr=args.fdr, **_test_options(args))
     if args.format == "csv":
         print("nullspec: note: the CSV holds the numbers only; --format text or json adds how to read them "
               "and the cautions", file=sys.stderr)
@@ -214,20 +198,19 @@ def _run_demo(args):
     options = _test_options(args)
     if args.name is not None:
         demo = load_demo(args.name)
-        result = _relabelled(spectral_test(demo.values, **options), demo)
+        result = spectral_test(demo, **options)
         _emit(render(result, args.format, source=demo.source, description=demo.description, seed=args.seed), None)
         return 0
     names = demo_names()
     demos = [load_demo(name) for name in names]
-    overview = screen(dict(zip(names, (d.values for d in demos))), **options)
+    overview = screen(dict(zip(names, demos)), **options)
     featured = names.index(_DEMO_FEATURED)
     parts = [
         f"nullspec demo: {len(names)} SYNTHETIC scenarios invented for this demo (nothing is read or written).",
         "\n".join(f"  {name}: {d.description}" for name, d in zip(names, demos)),
         overview.summary(),
         f"Full report of {_DEMO_FEATURED} (the cautions below apply to every row above):",
-        render(_relabelled(overview.results[featured], demos[featured]), "text",
-               source=demos[featured].source).rstrip("\n"),
+        render(overview.results[featured], "text", source=demos[featured].source).rstrip("\n"),
         "Next: `nullspec demo NAME` for another scenario's report, `nullspec report FILE` for your own matrix.",
     ]
     _emit("\n\n".join(parts) + "\n", None)

@@ -323,9 +323,10 @@ def spectral_test(
 
     Parameters
     ----------
-    A : array_like, pandas.DataFrame or numpy.matrix, shape (N, N)
+    A : array_like, pandas.DataFrame, numpy.matrix or nullspec.io.MatrixFile, shape (N, N)
         Real, finite, square matrix, N >= 3, not constant; never modified.  A DataFrame's index and
-        columns label the outliers' rows and columns.
+        columns, or a MatrixFile's labels (any object with ``values``, ``row_labels`` and
+        ``col_labels``), label the outliers' rows and columns.
     null : {"auto", "gaussian", "permutation", "bootstrap"} or NullModel, default="auto"
         The null hypothesis (module docstring): "auto" is the permutation null for N <= 400 and the
         exact Gaussian null above.
@@ -510,7 +511,8 @@ def screen(
     Parameters
     ----------
     matrices : sequence of array_like, or mapping of name -> array_like
-        The matrices (sizes may differ).
+        The matrices (sizes may differ), each anything :func:`spectral_test` accepts (a
+        :class:`nullspec.io.MatrixFile` keeps its labels).
     fdr : {"bh", "holm"}, default="bh"
         Benjamini-Hochberg (false discovery rate) or Holm (family-wise error) across the matrices,
         through statsmodels ``multipletests`` with the method given explicitly.

@@ -285,6 +285,26 @@ def test_gaussian_null_at_n800_reads_the_table(tmp_path, monkeypatch):
     assert not list(tmp_path.iterdir())
 
 
+def test_matrix_file_labels_reach_the_result_and_the_outliers():
+    from nullspec.io import MatrixFile
+
+    n = 40
+    rng = np.random.default_rng(41)
+    u = np.zeros(n)
+    u[:4] = 0.5
+    a = rng.standard_normal((n, n)) + 3.0 * np.sqrt(n) * np.outer(u, u)  # rank-one signal on units 0-3
+    rows = tuple(f"gene{i}" for i in range(n))
+    cols = tuple(f"site{i}" for i in range(n))
+    file = MatrixFile(a, rows, cols, "synthetic.csv", "csv")
+    res = _quiet(spectral_test, file, null="gaussian")
+    assert res.labels == {"rows": rows, "columns": cols}
+    # the outlier's rows/columns are the fewest units carrying half its weight: some of the planted 0-3
+    assert res.outliers and set(res.outliers[0].rows) <= {"gene0", "gene1", "gene2", "gene3"}
+    assert res.outliers[0].columns and set(res.outliers[0].columns) <= {"site0", "site1", "site2", "site3"}
+    screened = _quiet(screen, {"synthetic.csv": file}, null="gaussian")
+    assert screened.results[0].labels == res.labels and screened.results[0].outliers[0].rows == res.outliers[0].rows
+
+
 # --------------------------------------------------------------------------- drawn nulls
 
 

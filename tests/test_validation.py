@@ -333,3 +333,33 @@ class TestScalarCheckers:
         with pytest.raises(ValueError, match=match):
             check_flattened_square_width(width, "Z")
 
+
+class _Labelled:
+    """A stand-in for nullspec.io.MatrixFile: only the three attributes as_square_matrix reads."""
+
+    def __init__(self, values, row_labels, col_labels):
+        self.values, self.row_labels, self.col_labels = values, row_labels, col_labels
+
+
+class TestLabelledMatrices:
+    def test_labels_are_kept_as_strings(self):
+        m, rows, cols = as_square_matrix(_Labelled(_matrix(3), ["a", "b", 3], None))
+        np.testing.assert_array_equal(m, _matrix(3))
+        assert rows == ("a", "b", "3") and cols is None
+
+    def test_matrix_file_is_accepted(self):
+        from nullspec.io import MatrixFile
+
+        values = _matrix(3)
+        values.flags.writeable = False  # as read_matrix returns it
+        m, rows, cols = as_square_matrix(MatrixFile(values, ("r1", "r2", "r3"), ("c1", "c2", "c3"), "x.csv", "csv"))
+        assert m.flags.writeable and rows == ("r1", "r2", "r3") and cols == ("c1", "c2", "c3")
+
+    def test_label_count_must_match(self):
+        with pytest.raises(ValueError, match=r"`A\.col_labels` must hold one label per column of the 3 x 3 matrix; "
+                                             r"got 2 labels\. Pass 3 labels, or None\."):
+            as_square_matrix(_Labelled(_matrix(3), None, ["x", "y"]))
+
+    def test_values_are_validated(self):
+        with pytest.raises(ValueError, match=r"`A` must be square"):
+            as_square_matrix(_Labelled(np.ones((3, 4)), None, None))
