@@ -442,6 +442,17 @@ def _labels_text(labels, limit=10):
     return shown + (f", ... ({len(labels) - limit} more)" if len(labels) > limit else "")
 
 
+_NAME_WIDTH_CAP = 60  # widest name column of ScreenResult.summary()
+
+
+def _elide_middle(text, width):
+    """``text`` if it fits in ``width`` characters, else its start and end joined by ``...``."""
+    if len(text) <= width:
+        return text
+    tail = (width - 3) // 2
+    return text[: width - 3 - tail] + "..." + text[len(text) - tail :]
+
+
 @dataclass(frozen=True, slots=True, repr=False, eq=False)
 class ScreenResult:
     """A screen of many matrices: one row per matrix, with a correction across matrices.
@@ -491,16 +502,29 @@ class ScreenResult:
     def summary(self):
         """Plain-text table of the screen with the correction named.
 
+        The name column is as wide as the longest name, up to 60 characters; a longer name (a deep
+        file path) keeps its start and end, with ``...`` in the middle.
+
         Returns
         -------
         str
+
+        Examples
+        --------
+        >>> from nullspec.results import ScreenResult
+        >>> rows = [{"index": 0, "name": "reciprocal_pairs", "n": 40, "pvalue": 0.0004,
+        ...          "pvalue_adjusted": 0.0008, "significant": True}]
+        >>> print(ScreenResult(rows=rows, fdr="bh", alpha=0.05, results=()).summary().splitlines()[3])
+             0 reciprocal_pairs    40     0.0004     0.0008  yes
         """
         what = "false discovery rate (Benjamini-Hochberg)" if self.fdr == "bh" else "family-wise error (Holm)"
         lines = [f"Screen of {len(self.rows)} matrices; {what} controlled at {self.alpha:g} across matrices", ""]
-        lines.append(f"  {'#':>4} {'name':<16}{'N':>6}{'p':>11}{'p adj.':>11}  flagged")
-        for r in self.rows:
+        names = [_elide_middle(str(r["name"]), _NAME_WIDTH_CAP) for r in self.rows]
+        width = max([len("name"), *map(len, names)]) + 1
+        lines.append(f"  {'#':>4} {'name':<{width}}{'N':>6}{'p':>11}{'p adj.':>11}  flagged")
+        for r, name in zip(self.rows, names):
             lines.append(
-                f"  {r['index']:>4} {str(r['name'])[:15]:<16}{r['n']:>6}{_fmt_p(r['pvalue']):>11}"
+                f"  {r['index']:>4} {name:<{width}}{r['n']:>6}{_fmt_p(r['pvalue']):>11}"
                 f"{_fmt_p(r['pvalue_adjusted']):>11}  {'yes' if r['significant'] else 'no'}"
             )
         lines.append("")

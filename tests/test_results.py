@@ -131,3 +131,28 @@ def test_screen_result_json_and_summary():
     d = json.loads(json.dumps(scr.to_dict(), allow_nan=False))
     assert d["rows"][0]["p_edge"] is None and d["fdr"] == "bh"
     assert "Benjamini-Hochberg" in scr.summary() and "m0" in scr.summary()
+
+
+def _screen(names):
+    rows = [{"index": i, "name": name, "n": 40, "pvalue": 0.5, "pvalue_adjusted": 0.5, "significant": False}
+            for i, name in enumerate(names)]
+    return ScreenResult(rows=rows, fdr="holm", alpha=0.05, results=())
+
+
+def test_screen_summary_widens_the_name_column():
+    names = ["reciprocal_pairs", "a", "data/run-2024/region_07/weights.csv"]
+    lines = _screen(names).summary().splitlines()
+    table = lines[3:6]
+    for line, name in zip(table, names):
+        assert f" {name} " in line  # never clipped
+    # the N column starts at the same place on every line: one column as wide as the longest name
+    assert len({line.index(" 40 ") for line in table}) == 1
+    assert lines[2].index("name") == table[0].index("reciprocal_pairs")
+
+
+def test_screen_summary_elides_the_middle_of_very_long_names():
+    long = "/very/long/path/" + "x" * 80 + "/matrix_final.npy"
+    line = _screen([long]).summary().splitlines()[3]
+    shown = line.split()[1]
+    assert len(shown) == 60 and "..." in shown
+    assert shown.startswith("/very/long/path/") and shown.endswith("/matrix_final.npy")
