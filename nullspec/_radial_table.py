@@ -9,7 +9,7 @@ Fitted slope of log median(W2) against log N (N >= 50): -0.4115.
 
 Random streams (STREAMS[i] is row i's; both are valid samples of the same null, seeded by (SEED, N)):
 - stream 1: one generator default_rng(SeedSequence([SEED, N])) drawing the matrices in turn (commit 4a424e2).
-- stream 2: nullspec.nulls.draw_null batches, batch i seeded SeedSequence([SEED, N], spawn_key=(i,)).
+- stream 2: nullspec.nulls.draw_null, one draw per batch: draw j seeded SeedSequence([SEED, N], spawn_key=(j,)).
 
 Runs (RUNS):
 - N in (3, 4, 5, 6, 7, 8, 9, 10, 12, 14, 16, 18, 20, 25, 30, 35, 40, 50, 60, 70, 80, 100, 120, 150, 200, 250, 300, 400, 500): stream 1, 633 s CPU, n_jobs=1.

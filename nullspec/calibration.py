@@ -86,9 +86,9 @@ _CONFIDENCE = 0.95
 _EFFECT_QUANTILE = 0.01  # edge effect: rho over the finite-N 99% point of rho
 _DEFAULT_POLICY = ("mean", "sd", "include")
 _ON_DEMAND_SEED = 20240917  # with (n, policy) it fixes the seed of an on-demand radial null sample
-# Names the random stream of on-demand samples (in the cache key and metadata): "engine2" draws through
-# nullspec.nulls.draw_null's batches; files of the earlier sequential stream are not reused.
-_ON_DEMAND_STREAM = "engine2"
+# Names the random stream of on-demand samples (in the cache key and metadata): "perdraw", one seed per
+# draw (simulate_radial_null); files of the earlier sequential stream are not reused.
+_ON_DEMAND_STREAM = "perdraw"
 
 
 def _table():
@@ -422,8 +422,10 @@ def simulate_radial_null(n, *, center="mean", scale="sd", diagonal="include", n_
     what a test runs (:func:`surrogate_statistics`: standardisation with the given policy, spectrum,
     :func:`nullspec.statistics.radial`).  A given center or scale (a number) is replaced by 0 or 1:
     under the null the entries have that mean and scale, so the standardised matrix has the same law.
-    Replicate ``j`` is a function of the seed, ``n`` and ``j`` only (the engine's batches), so the
-    sample is the same for any ``n_jobs``; BLAS is held to one thread while it runs.
+    Replicate ``j`` is the first matrix drawn from ``default_rng(batch_seed(root, j))``
+    (:func:`nullspec._rng.batch_seed`): one draw per engine batch, so the stream depends on the
+    seed, ``n`` and ``j`` only -- not on ``n_jobs``, nor on how the engine sizes its batches for
+    other nulls.  BLAS is held to one thread while it runs.
 
     Parameters
     ----------
@@ -463,7 +465,7 @@ def simulate_radial_null(n, *, center="mean", scale="sd", diagonal="include", n_
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", InterruptedNullWarning)  # re-raised below as the interrupt it was
         draws = draw_null(np.zeros((n, n)), _RADIAL_NULL_MODEL, evaluate, n_resamples=n_reps, rng=seed,
-                          n_jobs=n_jobs, progress=progress)
+                          n_jobs=n_jobs, progress=progress, batch_size=1)
     if not draws.complete:
         raise KeyboardInterrupt
     return np.array(draws.values[:, 0])

@@ -398,7 +398,7 @@ def test_on_demand_radial_null_same_numbers_without_cache(tmp_path, monkeypatch)
 
 
 def test_simulated_radial_null_is_the_same_for_any_n_jobs():
-    # 24 draws at N = 200 are 6 engine batches of 4, enough for the engine to use a pool with 2 workers.
+    # 24 draws at N = 200 are 24 one-draw batches, enough for the engine to use a pool with 2 workers.
     one = calibration.simulate_radial_null(200, n_reps=24, seed=11, n_jobs=1, progress=False)
     two = calibration.simulate_radial_null(200, n_reps=24, seed=11, n_jobs=2, progress=False)
     np.testing.assert_array_equal(one, two)
@@ -406,25 +406,27 @@ def test_simulated_radial_null_is_the_same_for_any_n_jobs():
 
 
 def test_simulated_radial_null_runs_the_test_pipeline():
-    # Draw j of the engine's batch 0 is the j-th standard-normal matrix of default_rng(batch_seed(root, 0)); the
-    # sample must equal the default pipeline (standardise, spectrum, radial) applied to those matrices.
+    # Draw j is the first standard-normal matrix of default_rng(batch_seed(root, j)) (one draw per batch, whatever
+    # the engine's default batch size); the sample must equal the default pipeline (standardise, spectrum,
+    # radial) applied to those matrices.
     from nullspec._rng import batch_seed
     from nullspec.spectrum import compute_spectrum
     from nullspec.standardize import standardize
     from nullspec.statistics import radial
 
     w = calibration.simulate_radial_null(12, n_reps=5, seed=3, progress=False)
-    rng = np.random.default_rng(batch_seed(np.random.SeedSequence(3), 0))
-    direct = [radial(compute_spectrum(standardize(rng.standard_normal((12, 12))).matrix)) for _ in range(5)]
+    root = np.random.SeedSequence(3)
+    matrices = [np.random.default_rng(batch_seed(root, j)).standard_normal((12, 12)) for j in range(5)]
+    direct = [radial(compute_spectrum(standardize(m).matrix)) for m in matrices]
     np.testing.assert_allclose(w, direct, rtol=1e-12)
 
 
 def test_on_demand_radial_null_records_its_stream(tmp_path, monkeypatch):
     monkeypatch.setenv("NULLSPEC_CACHE_DIR", str(tmp_path))
     _, meta = calibration.radial_null_sample(4, diagonal="shift", n_jobs=1, progress=False)
-    assert meta["stream"] == "engine2" and meta["seed"][:2] == [20240917, 4] and meta["n_reps"] == 2000
+    assert meta["stream"] == "perdraw" and meta["seed"][:2] == [20240917, 4] and meta["n_reps"] == 2000
     (stored,) = tmp_path.glob("*.npz")
-    assert stored.name.startswith("radial-engine2-n4-")  # a new key: samples of the older stream are not read
+    assert stored.name.startswith("radial-perdraw-n4-")  # a new key: samples of the older stream are not read
     assert json.loads(str(np.load(stored)["header"]))["meta"] == meta
 
 

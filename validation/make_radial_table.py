@@ -30,8 +30,9 @@ records the random stream that produced it (``STREAMS``, described in the genera
 - stream 1: one generator ``default_rng(SeedSequence([SEED, N]))`` drew the matrices in turn, on one
   core (``simulate_radial_null`` before it ran through the drawn-null engine; the rows N <= 500 of
   the table, reproducible from the commit that generated them, 4a424e2);
-- stream 2 (current): ``nullspec.nulls.draw_null`` batches -- draw j of batch i comes from
-  ``SeedSequence([SEED, N], spawn_key=(i,))`` -- identical for any ``--n-jobs``.
+- stream 2 (current): ``nullspec.nulls.draw_null`` with one draw per batch -- draw j is the first
+  matrix of ``default_rng(SeedSequence([SEED, N], spawn_key=(j,)))`` -- identical for any ``--n-jobs``
+  (the rows N = 650, 800, 1000).
 
 Both are independent samples of the same null law, so rows of either stream are valid; regenerating
 the whole table (no ``--add``) rewrites every row with the current stream.  BLAS is held to one thread
@@ -59,7 +60,7 @@ CONFIDENCE = 0.95
 STREAM = 2  # the stream simulate_radial_null draws now (module docstring)
 STREAM_TEXT = {
     1: "one generator default_rng(SeedSequence([SEED, N])) drawing the matrices in turn (commit 4a424e2)",
-    2: "nullspec.nulls.draw_null batches, batch i seeded SeedSequence([SEED, N], spawn_key=(i,))",
+    2: "nullspec.nulls.draw_null, one draw per batch: draw j seeded SeedSequence([SEED, N], spawn_key=(j,))",
 }
 
 
