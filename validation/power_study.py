@@ -89,7 +89,7 @@ def reciprocity_thresholds(n, alpha=0.05):
     out = []
     for sign in (-1.0, 1.0):
         ratio_sq = ((mean - 0.5 + sign * z * sd) / (mean - 0.5)) ** 2
-        out.append((ratio_sq - 1.0) / (ratio_sq + 1.0))
+        out.append(float((ratio_sq - 1.0) / (ratio_sq + 1.0)))
     return tuple(out)
 
 

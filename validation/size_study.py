@@ -19,7 +19,9 @@ the summary can tell a null that is known not to hold there from an unexpected m
   ties, the doubled two-sided real-count p-value, the Holm omnibus, the estimated scale);
 - ``not guaranteed``: the Gaussian null with non-Gaussian entries (THEORY.md section 8), except the
   real count with continuous symmetric entries at N >= 50, which section 8 found valid;
-- ``approximate``: the bootstrap (asymptotically valid, no finite-N guarantee): both sides checked.
+- ``approximate``: the bootstrap (asymptotically valid, no finite-N guarantee): both sides checked;
+  ``approximate, discrete`` for its real count and omnibus, where ties make the p-value conservative
+  as for the permutation null, so a rate below the band is not counted against it.
 
 Run time on the project's 2-core machine: see ``validation/README.md``.
 
@@ -68,7 +70,10 @@ def expectation(null, law, n, column):
             return "exact", "permutation of i.i.d. entries: data and surrogates exchangeable"
         return "valid", "exchangeable, but the real count is discrete (ties make the p-value conservative)"
     if null == "bootstrap":
-        return "approximate", "bootstrap: asymptotically valid, no finite-N guarantee"
+        if column in ("radial", "edge"):
+            return "approximate", "bootstrap: asymptotically valid, no finite-N guarantee"
+        reason = "bootstrap (no finite-N guarantee); the real count is discrete (ties: conservative)"
+        return "approximate, discrete", reason
     if law == "gaussian":
         if column == "radial":
             return "exact", "exact Gaussian null (tabulated radial quantiles)"

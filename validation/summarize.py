@@ -35,7 +35,8 @@ def size_status(count, band, expectation):
     band : sequence of int
         ``(lo, hi)``: the 99% binomial band of the count under exact size alpha.
     expectation : str
-        ``"exact"``, ``"valid"``, ``"approximate"`` or ``"not guaranteed"`` (size_study).
+        ``"exact"``, ``"valid"``, ``"approximate"``, ``"approximate, discrete"`` or ``"not guaranteed"``
+        (size_study.expectation).
 
     Examples
     --------
@@ -49,7 +50,8 @@ def size_status(count, band, expectation):
         return IN_BAND
     if count > hi:
         return NOT_VALID if expectation == "not guaranteed" else UNEXPECTED
-    return {"valid": CONSERVATIVE, "not guaranteed": NOT_EXACT_LOW}.get(expectation, UNEXPECTED)
+    return {"valid": CONSERVATIVE, "approximate, discrete": CONSERVATIVE, "not guaranteed": NOT_EXACT_LOW}.get(
+        expectation, UNEXPECTED)
 
 
 def _rate(count, replications):
@@ -86,7 +88,8 @@ def _header(studies):
         reps = sum(r["replications"] for r in records)
         lines.append(f"| {name} | {len(records)} | {reps} | {_seconds(records) / 60:.1f} min |")
     total = sum(_seconds(r) for r in studies.values())
-    lines += ["", f"Total wall time: {total / 60:.1f} min on the project's 2-core machine (shared with other work).", ""]
+    machine = "on the project's 2-core machine (shared with other work)"
+    lines += ["", f"Total wall time: {total / 60:.1f} min {machine}.", ""]
     return lines
 
 
@@ -106,8 +109,8 @@ def _size_row(record, alpha):
 
 
 def _size_flags(records):
-    """Every size figure outside its band, with its label and the expectation's reason."""
-    lines = []
+    """Every size figure outside its band, grouped by label (unexpected first), with the expectation's reason."""
+    groups = {status: [] for status in (UNEXPECTED, NOT_VALID, NOT_EXACT_LOW, CONSERVATIVE)}
     for record in records:
         cfg = record["config"]
         for alpha in map(str, common.ALPHAS):
@@ -117,12 +120,15 @@ def _size_flags(records):
                 expectation, reason = record["expectation"][col]
                 status = size_status(count, band, expectation)
                 if status != IN_BAND:
-                    lines.append(
+                    groups[status].append(
                         f"- N = {cfg['n']}, {cfg['null']}, {cfg['law']}, {col}, alpha = {alpha}: "
                         f"{_rate(count, record['replications'])} vs band [{band[0]}, {band[1]}]/"
-                        f"{record['replications']}: **{status}** ({reason})"
+                        f"{record['replications']} ({reason})"
                     )
-    return lines or ["- none"]
+    lines = []
+    for status, items in groups.items():
+        lines += [f"#### {status}: {len(items)}", ""] + items + ([""] if items else [])
+    return lines
 
 
 def _size_section(records):
@@ -134,7 +140,8 @@ def _size_section(records):
         "`spectral_test` (drawn nulls: B = 99, Besag-Clifford stopping at alpha = 0.05; both levels read off",
         "the same replications). The band is the 99% binomial band of the rate of an exact test of size alpha",
         "(exact binomial quantiles). Marks: none = in band; ` c` = below band where only the upper side binds",
-        "(discrete real count, Holm omnibus: conservative, valid); ` x` = above band where the null is not",
+        "(the discrete real count under any null, an omnibus that includes it, the estimated scale: conservative,",
+        "valid or, for the bootstrap, approximate); ` x` = above band where the null is not",
         "guaranteed (THEORY.md section 8): **null not valid here (expected)**; ` xc` = below band there",
         "(conservative, expected); ` !` = **outside band (unexpected)**. 'draws' is the mean number of null",
         "draws used; 'warned' the fraction of matrices for which nullspec raised NonGaussianEntriesWarning.",
@@ -142,7 +149,7 @@ def _size_section(records):
         "bootstrap ran, with fewer replications (the 45-minute budget).",
         "",
     ]
-    for alpha in map(str, common.ALPHAS):
+    for alpha in map(str, sorted(common.ALPHAS, reverse=True)):
         lines += [
             f"### alpha = {alpha}",
             "",
@@ -151,7 +158,7 @@ def _size_section(records):
         ]
         lines += [_size_row(record, alpha) for record in order]
         lines.append("")
-    lines += ["### Figures outside their band", ""] + _size_flags(order) + [""]
+    lines += ["### Figures outside their band", ""] + _size_flags(order)
     return lines
 
 
