@@ -67,6 +67,11 @@ def test_gaussian_null_size_in_band_under_gaussian_entries(studies):
 
 
 def test_replications_do_not_depend_on_n_jobs(studies):
+    # loky reuses worker processes started by earlier tests, before validation/ was on sys.path, and
+    # they could not unpickle the study's functions: start fresh workers, which inherit sys.path.
+    from joblib.externals.loky import get_reusable_executor
+
+    get_reusable_executor().shutdown(wait=True, kill_workers=True)
     common, size = studies["_common"], studies["size_study"]
     seed = common.cell_seed(size.ROOT_SEED, "n_jobs-check")
     options = {"null": "permutation-rows", "law": "t5", "n": 12}
