@@ -23,6 +23,7 @@ import math
 import os
 from pathlib import Path
 import platform
+import subprocess
 import sys
 import time
 import warnings
@@ -237,11 +238,22 @@ def rejection_counts(outcomes, alphas=ALPHAS, columns=COLUMNS):
     }
 
 
+def _git(*args):
+    """Output of a git command in the checkout holding this folder ("" when git or the checkout is missing)."""
+    try:
+        done = subprocess.run(["git", "-C", str(HERE), *args], capture_output=True, text=True, timeout=30)
+    except OSError:
+        return ""
+    return done.stdout.strip() if done.returncode == 0 else ""
+
+
 def environment():
-    """Versions and machine facts recorded with every result."""
+    """Versions, the package's commit (and whether nullspec/ had uncommitted changes) and machine facts."""
     return {
         "nullspec": nullspec.__version__, "numpy": np.__version__, "scipy": scipy.__version__,
         "joblib": joblib.__version__, "python": platform.python_version(), "cpu_count": os.cpu_count(),
+        "commit": _git("rev-parse", "--short", "HEAD") or None,
+        "package_modified": bool(_git("status", "--porcelain", "--", str(HERE.parent / "nullspec"))),
     }
 
 

@@ -35,6 +35,7 @@ from scipy import stats
 import nullspec
 from nullspec.calibration import edge_threshold
 from nullspec.ginibre import real_count_mean, real_count_var
+from nullspec.nulls.engine import default_batch_size
 
 import _common as common
 
@@ -135,6 +136,7 @@ def power_cell(structure, strength, null, n, replications, n_jobs=1):
                    "target_statistic": TARGET[structure]},
         "replications": replications,
         "n_resamples": None if null == "gaussian" else N_RESAMPLES,
+        "engine_batch_size": None if null == "gaussian" else default_batch_size(n),
         "seed": {"root": ROOT_SEED, "entropy": list(seed.entropy)},
         "counts": counts,
         "intervals": {col: {a: list(common.binomial_interval(c, replications)) for a, c in per.items()}

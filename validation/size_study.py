@@ -36,6 +36,7 @@ import numpy as np
 
 import nullspec
 from nullspec.nulls import Permutation
+from nullspec.nulls.engine import default_batch_size
 
 import _common as common
 
@@ -125,6 +126,7 @@ def size_cell(null, law, n, replications, n_jobs=1):
         "n_resamples": None if null == "gaussian" else N_RESAMPLES,
         "sequential_alpha": None if null == "gaussian" else SEQUENTIAL_ALPHA,
         "mean_draws": float(np.mean(draws)) if draws else None,
+        "engine_batch_size": None if null == "gaussian" else default_batch_size(n),
         "seed": {"root": ROOT_SEED, "entropy": list(seed.entropy)},
         "counts": common.rejection_counts(outcomes),
         "bands": {str(a): list(common.binomial_band(replications, a)) for a in common.ALPHAS},
