@@ -96,11 +96,16 @@ def scipy_permutation_test(a, b, seed):
     )
 
 
-def engine(a, b, seed, n_jobs, backend=None, null=None, evaluate=real_count):
+def engine(a, b, seed, n_jobs, backend=None, null=None, evaluate=real_count, batch_size=None):
     config = parallel_config(backend=backend) if backend else contextlib.nullcontext()
     with config:
         return draw_null(a, null or Permutation(), evaluate, n_resamples=b, rng=seed, n_jobs=n_jobs,
-                         progress=False)
+                         batch_size=batch_size, progress=False)
+
+
+def warm_loky(a, seed):
+    """Start the loky pool (and its workers' imports) outside the timings."""
+    engine(a, 4 * CORES, seed, 2, backend="loky", batch_size=1)
 
 
 def one_thread_rate(n, k, seed):
@@ -182,7 +187,7 @@ def throughput_round(n, b, seed):
     rates["scipy"] = measured(lambda: scipy_permutation_test(a, b, seed), b)
     for n_jobs in (1, 2):
         rates[f"engine_n_jobs_{n_jobs}"] = measured(lambda: engine(a, b, seed, n_jobs), b)
-    engine(a, 4 * CORES, seed, 2, backend="loky")  # warm the loky pool
+    warm_loky(a, seed)
     rates["engine_loky_n_jobs_2"] = measured(lambda: engine(a, b, seed, 2, backend="loky"), b)
     # the single-thread rate drifts (clock): measured at both ends of the round, averaged
     after = one_thread_rate(n, max(b // 4, 10), seed + 1)
@@ -196,7 +201,7 @@ def prefer_round(n, b, seed):
     """Engine with n_jobs=2 on threads vs a warm loky pool (the `prefer` hint's evidence), for the
     real count alone and for the full pipeline (whose Python parts hold the GIL)."""
     a = np.random.default_rng(seed).standard_normal((n, n))
-    engine(a, 4 * CORES, seed, 2, backend="loky")
+    warm_loky(a, seed)
     rates = {}
     for label, evaluate, size in (("real_count", real_count, b), ("pipeline", pipeline, b // 2)):
         run_ = functools.partial(engine, a, size, seed, evaluate=evaluate)
