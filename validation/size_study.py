@@ -50,10 +50,9 @@ SIZES = (20, 100, 300)
 # Gaussian null costs one eigenvalue solve per replication, a drawn null up to B + 1 = 100.
 R_GAUSSIAN = {20: 2000, 100: 2000, 300: 1000}
 R_DRAWN = {20: 300, 100: 200, 300: 100}
-# The four schemes other than "all" at N = 100: two laws (the baseline and the most hostile), fewer
-# replications; at N = 300 only "all" and the bootstrap run.
-R_OTHER_SCHEMES_100 = 100
-OTHER_SCHEME_LAWS_100 = ("gaussian", "sparse")
+# The four schemes other than "all" (offdiagonal, rows, columns, pairs) get fewer replications at
+# N >= 100, every law.
+R_OTHER_SCHEMES = {20: 300, 100: 100, 300: 100}
 _CONTINUOUS_SYMMETRIC = ("gaussian", "t5", "laplace")
 
 
@@ -137,16 +136,12 @@ def size_cell(null, law, n, replications, n_jobs=1):
 
 
 def replications(null, law, n):
-    """R of a configuration, or None when it is not run (module constants)."""
+    """R of a configuration (module constants)."""
     if null == "gaussian":
         return R_GAUSSIAN[n]
     if null in ("permutation-all", "bootstrap"):
         return R_DRAWN[n]
-    if n == 20:
-        return R_DRAWN[20]
-    if n == 100 and law in OTHER_SCHEME_LAWS_100:
-        return R_OTHER_SCHEMES_100
-    return None
+    return R_OTHER_SCHEMES[n]
 
 
 def cells():
@@ -155,9 +150,8 @@ def cells():
     for n in SIZES:
         for null in NULLS:
             for law in common.LAWS:
-                r = replications(null, law, n)
-                if r is not None:
-                    out.append({"key": key(null, law, n), "null": null, "law": law, "n": n, "replications": r})
+                out.append({"key": key(null, law, n), "null": null, "law": law, "n": n,
+                            "replications": replications(null, law, n)})
     return out
 
 
