@@ -52,7 +52,14 @@ import numpy as np
 
 from . import _cache, statistics
 from .exceptions import InterruptedNullWarning
-from .ginibre import real_count_mean, real_count_pmf, real_count_var, spectral_radius_isf, spectral_radius_sf
+from .ginibre import (
+    expected_outside,
+    real_count_mean,
+    real_count_pmf,
+    real_count_var,
+    spectral_radius_isf,
+    spectral_radius_sf,
+)
 from .nulls import Gaussian, draw_null
 from .spectrum import compute_spectrum
 from .standardize import standardize
@@ -72,6 +79,7 @@ __all__ = [
     "mc_calibration",
     "exceedance_threshold",
     "sequential_stop",
+    "reference_log_pvalues",
     "reference_pvalues",
     "minp_statistic",
     "minp_omnibus",
@@ -103,6 +111,15 @@ def _combine_sides(p_less, p_greater, alternative):
     if alternative == "greater":
         return np.minimum(p_greater, 1.0)
     return np.minimum(2.0 * np.minimum(p_less, p_greater), 1.0)
+
+
+def _combine_log_sides(log_less, log_greater, alternative):
+    """:func:`_combine_sides` on the log scale."""
+    if alternative == "less":
+        return np.minimum(log_less, 0.0)
+    if alternative == "greater":
+        return np.minimum(log_greater, 0.0)
+    return np.minimum(math.log(2.0) + np.minimum(log_less, log_greater), 0.0)
 
 
 # --------------------------------------------------------------------------- Gaussian null, exact
@@ -320,23 +337,37 @@ def _table_row(n, which="quantiles"):
     return np.array([np.interp(np.log(n), np.log(grid), table[:, j]) for j in range(table.shape[1])])
 
 
+def _log_tails(x, quantiles, continued=False):
+    """``log P(X <= x)`` and ``log P(X >= x)`` from quantiles at the table's levels (interpolated in log p).
+
+    Both are monotone in ``x``.  Beyond the outermost level on a tail's own side the tail is clamped at
+    that level, or, with ``continued``, continued linearly in log p along the outermost segment
+    (strictly monotone, for the omnibus's reference map; not a p-value there).  On the other side
+    it is 0 (p = 1).
+    """
+    levels = np.asarray(_table().LEVELS)
+    q = np.asarray(quantiles, dtype=float)
+    x = np.asarray(x, dtype=float)
+    log_lo, log_hi = np.log(levels), np.log1p(-levels)
+    lower = np.where(x > q[-1], 0.0, np.interp(x, q, log_lo))
+    upper = np.where(x < q[0], 0.0, np.interp(x, q, log_hi))
+    if continued:
+        lower = np.where(x < q[0], log_lo[0] + (x - q[0]) * (log_lo[1] - log_lo[0]) / (q[1] - q[0]), lower)
+        upper = np.where(x > q[-1], log_hi[-1] - (x - q[-1]) * (log_hi[-2] - log_hi[-1]) / (q[-1] - q[-2]), upper)
+    return lower, upper
+
+
 def _tail_from_quantiles(x, quantiles, alternative):
     """p-value of scaled statistics ``x`` from quantiles at the table's levels (interpolation in log p).
 
     Returns (p, bounded): ``bounded`` is True where ``x`` lies beyond the tabulated levels on the
     significant side, where ``p`` is then the bound ``1 - max level`` (or ``min level``).
     """
-    levels = np.asarray(_table().LEVELS)
     x = np.asarray(x, dtype=float)
-    # Upper and lower tail probabilities, interpolated in log p between the tabulated levels: both
-    # are monotone in x; outside the levels they are clamped at the outermost level.
-    p_greater = np.exp(np.interp(x, quantiles, np.log1p(-levels)))
-    p_greater = np.where(x < quantiles[0], 1.0, p_greater)
-    p_less = np.exp(np.interp(x, quantiles, np.log(levels)))
-    p_less = np.where(x > quantiles[-1], 1.0, p_less)
+    lower, upper = _log_tails(x, quantiles)
     beyond_hi, beyond_lo = x > quantiles[-1], x < quantiles[0]
     bounded = {"greater": beyond_hi, "less": beyond_lo}.get(alternative, beyond_hi | beyond_lo)
-    return _combine_sides(p_less, p_greater, alternative), bounded
+    return _combine_sides(np.exp(lower), np.exp(upper), alternative), bounded
 
 
 def radial_table_pvalue(w2, n, alternative="greater"):
@@ -870,12 +901,18 @@ def mc_calibration(observed, values, alternatives, *, alpha=0.05, n_resamples=No
     return out
 
 
-def reference_pvalues(values, names, alternatives, n):
-    """Fixed reference p-value maps: the Gaussian-null p-value of each statistic as a function of it.
+def reference_log_pvalues(values, names, alternatives, n):
+    """Fixed reference maps: the log Gaussian-null p-value of each statistic, as a function of it.
 
     They put the statistics on one scale for the min-p omnibus.  They are deterministic functions of
     the statistic's value; whether they are exact for the data's entry law affects only the omnibus's
-    power, never its validity (:func:`minp_omnibus`).
+    power, never its validity (:func:`minp_omnibus`).  Where the Gaussian-null calculation stops
+    resolving the tail, each map continues strictly monotone, so that the omnibus still orders
+    extreme values instead of tying them (a drawn null's surrogates are often far in the Gaussian
+    tail too): the radial map beyond the table's outermost levels (0.001 and 0.999) continues
+    linearly in log p along the table's outermost segment, and the edge map beyond
+    ``spectral_radius_sf = 1e-20`` continues linearly in the radius with the slope of log sf there.
+    Values there are weights, not p-values.
 
     Parameters
     ----------
@@ -891,12 +928,17 @@ def reference_pvalues(values, names, alternatives, n):
     Returns
     -------
     ndarray, shape (rows, k)
+        ``log p_ref`` (``-inf`` only where the real count's pmf underflows).
 
     Examples
     --------
-    >>> from nullspec.calibration import reference_pvalues
-    >>> reference_pvalues([[4, 1.3718]], ["real_count", "edge"], ["two-sided", "greater"], 20).round(2).tolist()
+    >>> import numpy as np
+    >>> from nullspec.calibration import reference_log_pvalues
+    >>> np.exp(reference_log_pvalues([[4, 1.3718]], ["real_count", "edge"], ["two-sided", "greater"], 20)).round(2).tolist()
     [[1.0, 0.01]]
+    >>> # beyond the edge law's resolved tail the map keeps decreasing
+    >>> bool(np.diff(reference_log_pvalues([[8.0], [9.0]], ["edge"], ["greater"], 100)[:, 0])[0] < 0)
+    True
     """
     values = np.atleast_2d(np.asarray(values, dtype=float))
     out = np.empty_like(values)
@@ -905,17 +947,58 @@ def reference_pvalues(values, names, alternatives, n):
     return out
 
 
+def reference_pvalues(values, names, alternatives, n):
+    """The reference maps of :func:`reference_log_pvalues` on the p scale (underflows to 0 far out).
+
+    Parameters
+    ----------
+    values, names, alternatives, n
+        As in :func:`reference_log_pvalues`.
+
+    Returns
+    -------
+    ndarray, shape (rows, k)
+
+    Examples
+    --------
+    >>> from nullspec.calibration import reference_pvalues
+    >>> reference_pvalues([[4, 1.3718]], ["real_count", "edge"], ["two-sided", "greater"], 20).round(2).tolist()
+    [[1.0, 0.01]]
+    """
+    return np.exp(reference_log_pvalues(values, names, alternatives, n))
+
+
 def _reference_real_count(k, n, alternative):
-    return discrete_pvalue(real_count_pmf(n), np.rint(k).astype(int), alternative)
+    with np.errstate(divide="ignore"):
+        return np.log(discrete_pvalue(real_count_pmf(n), np.rint(k).astype(int), alternative))
+
+
+# The edge map's tail knot: beyond the radius where spectral_radius_sf = _EDGE_KNOT_SF it continues
+# linearly in the radius (G* loses accuracy below ~1e-25 and underflows near 1e-308).
+_EDGE_KNOT_SF = 1e-20
+_EDGE_KNOT_STEP = 1e-4
+
+
+@functools.lru_cache(maxsize=256)
+def _edge_knot(n):
+    """Raw radius where the edge sf is _EDGE_KNOT_SF, and the slope of log sf there (negative)."""
+    knot = float(spectral_radius_isf(_EDGE_KNOT_SF, n))
+    inner = float(spectral_radius_sf(knot - _EDGE_KNOT_STEP, n))
+    return knot, (math.log(_EDGE_KNOT_SF) - math.log(inner)) / _EDGE_KNOT_STEP
 
 
 def _reference_edge(rho, n, alternative):
-    p_greater = np.asarray(spectral_radius_sf(np.asarray(rho) * math.sqrt(n), n), dtype=float)
-    return _combine_sides(1.0 - p_greater, p_greater, alternative)
+    r = np.asarray(rho, dtype=float) * math.sqrt(n)
+    g = expected_outside(r, n, part="upper")
+    knot, slope = _edge_knot(n)
+    with np.errstate(divide="ignore"):
+        upper = np.where(r > knot, math.log(_EDGE_KNOT_SF) + slope * (r - knot), np.log(-np.expm1(-g)))
+    return _combine_log_sides(-g, upper, alternative)  # P(rho < r) = exp(-G*)
 
 
 def _reference_radial(w2, n, alternative):
-    return radial_table_pvalue(w2, n, alternative)[0]
+    x = np.asarray(w2, dtype=float) * float(n) ** _table().SCALE_EXPONENT
+    return _combine_log_sides(*_log_tails(x, _table_row(n), continued=True), alternative)
 
 
 _REFERENCE = {"real_count": _reference_real_count, "edge": _reference_edge, "radial": _reference_radial}
@@ -924,7 +1007,7 @@ _REFERENCE = {"real_count": _reference_real_count, "edge": _reference_edge, "rad
 def minp_omnibus(observed, values, names, alternatives, n, *, alpha=0.05, n_resamples=None, sequential=False):
     """Single-step min-p omnibus over shared null draws.
 
-    ``T = min_j p_ref_j(stat_j)`` with the fixed maps of :func:`reference_pvalues` is computed on the
+    ``T = min_j log p_ref_j(stat_j)`` with the fixed maps of :func:`reference_log_pvalues` is computed on the
     data and on every null draw, and its p-value is ``(#{T_b <= T_obs} + 1) / (B + 1)``.  This is
     exactly valid (family-wise, across the statistics) whatever the entry law: under the null the data
     and the draws are exchangeable (exactly so for a permutation null of i.i.d. entries), and ``T`` is
@@ -948,7 +1031,8 @@ def minp_omnibus(observed, values, names, alternatives, n, *, alpha=0.05, n_resa
     Returns
     -------
     dict
-        ``pvalue``, ``pvalue_interval``, ``statistic`` (T on the data) and ``null_distribution``.
+        ``pvalue``, ``pvalue_interval``, ``statistic`` (T on the data, a log reference p-value) and
+        ``null_distribution``.
 
     Examples
     --------
@@ -967,7 +1051,7 @@ def minp_omnibus(observed, values, names, alternatives, n, *, alpha=0.05, n_resa
 
 
 def minp_statistic(values, names, alternatives, n):
-    """The omnibus statistic ``min_j p_ref_j`` of each row of statistics (see :func:`minp_omnibus`).
+    """The omnibus statistic ``min_j log p_ref_j`` of each row of statistics (see :func:`minp_omnibus`).
 
     Parameters
     ----------
@@ -985,8 +1069,10 @@ def minp_statistic(values, names, alternatives, n):
     Examples
     --------
     >>> from nullspec.calibration import minp_statistic
-    >>> minp_statistic([4, 1.3718], ["real_count", "edge"], ["two-sided", "greater"], 20).round(2).tolist()
+    >>> import numpy as np
+    >>> t = minp_statistic([4, 1.3718], ["real_count", "edge"], ["two-sided", "greater"], 20)
+    >>> np.exp(t).round(2).tolist()
     [0.01]
     """
-    return reference_pvalues(values, names, alternatives, n).min(axis=1)
+    return reference_log_pvalues(values, names, alternatives, n).min(axis=1)
 

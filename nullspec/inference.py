@@ -215,7 +215,7 @@ def _drawn_tests(spec, observed, values, names, alts, opts, method):
     omni = calibration.minp_omnibus(observed[:k], values[:, :k], names[:k], alts, n, **settings)
     omnibus_method = (
         "single-step min-p over the statistics on the same draws (reference maps: the Gaussian-null "
-        "p-values), p = (b+1)/(B+1)"
+        "p-values, tails continued where unresolved), p = (b+1)/(B+1)"
     )
     return tests, omni["pvalue"], omnibus_method
 

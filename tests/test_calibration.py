@@ -13,7 +13,7 @@ from statsmodels.stats.multitest import multipletests
 from statsmodels.stats.proportion import proportion_confint
 
 from nullspec import _cache, _radial_table, calibration
-from nullspec.ginibre import real_count_mean, real_count_pmf, real_count_var
+from nullspec.ginibre import real_count_mean, real_count_pmf, real_count_var, spectral_radius_sf
 
 ROOT = Path(__file__).resolve().parent.parent
 
@@ -259,7 +259,28 @@ def test_minp_statistic_is_min_of_reference_pvalues():
     ref = calibration.reference_pvalues(vals, names, alts, 20)
     assert ref[0, 0] == pytest.approx(calibration.real_count_calibration(4, 20)["pvalue"])
     assert ref[0, 1] == pytest.approx(calibration.edge_calibration(1.3718, 20)["pvalue"])
-    np.testing.assert_allclose(calibration.minp_statistic(vals, names, alts, 20), ref.min(axis=1))
+    np.testing.assert_allclose(np.exp(calibration.minp_statistic(vals, names, alts, 20)), ref.min(axis=1))
+
+
+def test_reference_maps_stay_strictly_monotone_in_the_far_tail():
+    # Beyond the radial table's 0.999 level and where the edge law's tail is no longer resolved the
+    # maps continue (weights, not p-values): strictly decreasing, continuous at the knot, and equal
+    # to the calibrated p-values inside the resolved range.
+    n = 100
+    w2 = np.linspace(0.0, 50.0, 400) / n ** calibration._table().SCALE_EXPONENT
+    radial = calibration.reference_log_pvalues(w2[:, None], ["radial"], ["greater"], n)[:, 0]
+    table_p, beyond = calibration.radial_table_pvalue(w2, n)[:2]
+    assert beyond.sum() > 100 and np.isfinite(radial).all()
+    assert np.all(np.diff(radial[np.flatnonzero(beyond)[0] - 1 :]) < 0)
+    np.testing.assert_allclose(np.exp(radial[~beyond]), table_p[~beyond], rtol=1e-12)
+    rho = np.linspace(1.0, 10.0, 500)
+    edge = calibration.reference_log_pvalues(rho[:, None], ["edge"], ["greater"], n)[:, 0]
+    assert np.all(np.diff(edge) < 0) and np.isfinite(edge).all()
+    knot = calibration._edge_knot(n)[0] / np.sqrt(n)
+    resolved = rho < knot
+    np.testing.assert_allclose(np.exp(edge[resolved]), spectral_radius_sf(rho[resolved] * np.sqrt(n), n), rtol=1e-12)
+    around = calibration.reference_log_pvalues([[knot - 1e-9], [knot + 1e-9]], ["edge"], ["greater"], n)
+    assert around[0, 0] == pytest.approx(around[1, 0], abs=1e-6)
 
 
 # --------------------------------------------------------------------------- radial table

@@ -356,6 +356,19 @@ def test_drawn_null_detects_signal_and_finds_outlier():
     assert res.outliers and set(res.outliers[0].rows) <= set(range(5))
 
 
+def test_drawn_omnibus_keeps_strong_radial_structure():
+    # Heterogeneous row scales (log-normal, sd 1) at N = 50: under the permutation null the surrogates
+    # are heavy-tailed too, so their Gaussian-reference p-values sit far in the tail; the omnibus must
+    # still rank the data's radial statistic (beyond every draw) first instead of tying it at the
+    # table's last level (it returned p = 1.0 here before the reference maps continued their tails).
+    rng = np.random.default_rng(3)
+    a = np.exp(rng.standard_normal(50))[:, None] * rng.standard_normal((50, 50))
+    res = _quiet(spectral_test, a, null="permutation", n_resamples=99, rng=3, sequential=False)
+    radial = res.tests["radial"]
+    assert radial.statistic > radial.null_distribution.max() and radial.pvalue == pytest.approx(1 / 100)
+    assert res.pvalue <= ALPHA and res.significant
+
+
 @pytest.mark.slow
 def test_size_permutation_null_heavy_tails():
     # Permutation null with t(3) entries at N = 20, R = 300 replicates of B = 99 (sequential): the omnibus
