@@ -794,12 +794,34 @@ def sequential_stop(observed, alternatives, *, alpha, n_resamples, reference=Non
     (5, None)
     """
     columns = _sequential_columns(observed, alternatives, alpha, n_resamples, reference)
+    if reference is not None:  # each draw's omnibus statistic is computed once, on its first call
+        columns[-1] = (_GrowingColumn(reference),) + columns[-1][1:]
 
     def stop(values):
         reaches = [_first_reach(hits, h) for hits, h in _column_hits(columns, values)]
         return None if any(r is None for r in reaches) else max(reaches)
 
     return stop
+
+
+class _GrowingColumn:
+    """``reference(values)`` over calls whose values extend the previous call's (the engine's calls).
+
+    Rows already seen are not recomputed; a call whose rows do not extend the cached ones (checked on
+    the last cached row) recomputes everything.
+    """
+
+    def __init__(self, reference):
+        self.reference, self.last_row, self.column = reference, None, np.empty(0)
+
+    def __call__(self, values):
+        m = len(self.column)
+        if len(values) < m or (m and not np.array_equal(values[m - 1], self.last_row)):
+            m, self.column = 0, np.empty(0)
+        if len(values) > m:
+            self.column = np.concatenate([self.column, np.asarray(self.reference(values[m:]), dtype=float)])
+            self.last_row = np.array(values[-1])
+        return self.column
 
 
 def _sequential_columns(observed, alternatives, alpha, n_resamples, reference):

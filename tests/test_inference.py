@@ -340,13 +340,14 @@ def test_drawn_pvalues_follow_the_plus_one_rule():
 
 
 def test_sequential_stops_early_on_null_looking_matrix():
-    # N = 100: the engine checks the stopping rule after rounds of 8 batches of 33 draws (264 draws), so an
-    # early stop is possible well before 999 (at N = 20 one round already covers 2048 draws).
-    a = np.random.default_rng(20).standard_normal((100, 100))
-    res = _quiet(spectral_test, a, null="permutation", n_resamples=999, rng=3)
-    assert res.n_resamples < 999 and not res.significant
-    for r in res.tests.values():
-        assert r.pvalue > ALPHA
+    # The engine asks the stopping rule after every batch (N = 100: 22 draws, N = 50: 159), so a
+    # null-looking matrix stops well before 999 draws.
+    for n in (50, 100):
+        a = np.random.default_rng(20).standard_normal((n, n))
+        res = _quiet(spectral_test, a, null="permutation", n_resamples=999, rng=3)
+        assert res.n_resamples < 999 and not res.significant
+        for r in res.tests.values():
+            assert r.pvalue > ALPHA
 
 
 def test_drawn_null_detects_signal_and_finds_outlier():

@@ -5,8 +5,9 @@ Draw ``j`` of a null lives in batch ``i = j // batch_size`` at position ``j % ba
 batch size is a function of the matrix size N only. So every draw is a pure function of the root
 seed, N and ``j``: the values are identical for any ``n_jobs``, any joblib backend and any order in
 which batches finish, and a result can be extended with draws ``B, B + 1, …`` without repeating
-any. Sequential stopping is checked after each *round* of a fixed number of batches, so the
-stopping point does not depend on the parallelism either.
+any. A stopping rule is asked after each batch *in draw order* (batch ``i`` once batches
+``0 .. i`` are all finished, whatever order they finished in), so the stopping point and the values
+kept do not depend on the parallelism either.
 
 Parallel work goes through :class:`joblib.Parallel` with only a soft ``prefer`` hint, so
 :func:`joblib.parallel_config` chooses the backend (loky, threading, dask, …). BLAS is held to one
@@ -42,8 +43,6 @@ _SOLVE_SECONDS_PER_N3 = 2.2e-9
 _MAX_BATCH = 256
 # Fewer tasks than this run in-process (see _Runner).
 _MIN_TASKS_FOR_POOL = 4
-# Sequential stopping is checked after every round of this many batches (never depends on n_jobs).
-BATCHES_PER_ROUND = 8
 # Soft hint given to joblib (see the module's Notes / benchmarks/bench_nulls.py for the measurement).
 _PREFER = "threads"
 
@@ -58,7 +57,7 @@ class NullDraws:
         Row ``j`` holds the k statistics of surrogate ``j``, in draw order (read-only).
     n_used : int
         Number of leading rows the decision rests on: ``B``, or the ``L`` at which a stopping rule
-        settled the decision (rows after ``L`` were computed in the same round and are kept).
+        settled the decision (rows after ``L`` up to the end of that batch are kept).
     n_batches : int
         Number of batches the draws span (batch ``i`` holds draws ``i * batch_size`` onwards).
     batch_size : int
@@ -185,13 +184,6 @@ def _tasks(start, stop, batch_size):
     ]
 
 
-def _rounds(tasks, staged):
-    """Split the tasks into rounds of BATCHES_PER_ROUND (one round when no stopping rule)."""
-    if not staged:
-        return [tasks]
-    return [tasks[k : k + BATCHES_PER_ROUND] for k in range(0, len(tasks), BATCHES_PER_ROUND)]
-
-
 def _progress_bar(progress, total):
     """Context giving a tqdm bar on stderr, or None when off or tqdm is not installed."""
     if progress is False:
@@ -211,7 +203,7 @@ def _backend_name():
 
 
 class _Runner:
-    """Runs rounds of tasks in-process or through one joblib Parallel (pool kept across rounds).
+    """Runs the tasks in-process or through one joblib Parallel.
 
     A run with one worker, or with fewer than _MIN_TASKS_FOR_POOL tasks (under ~0.2 s of work),
     stays in-process: a pool could save at most ~0.1 s there, and a cold process pool costs ~0.3 s
@@ -220,7 +212,7 @@ class _Runner:
 
     def __init__(self, n_jobs, n_tasks):
         # batch_size=1: a task is already ~50 ms of work; joblib's automatic grouping would bundle
-        # several and leave a worker idle at the end of a round.
+        # several, leave a worker idle at the end of the run and delay the stopping checks.
         parallel = Parallel(
             n_jobs=n_jobs, prefer=_PREFER, return_as="generator_unordered", batch_size=1
         )
@@ -244,46 +236,66 @@ class _Runner:
             return
         results = self.parallel(delayed(work)(task) for task in tasks)
         try:
-            yield from results
+            for item in results:  # not `yield from`: closing this generator must not reach joblib's
+                yield item  # generator before the filter below is in place
         finally:
-            results.close()
+            with warnings.catch_warnings():
+                # a stopping rule ends the run on purpose: the batches already drawn beyond it are dropped
+                warnings.filterwarnings("ignore", message=r".*adjusting the input task iterator", category=UserWarning)
+                results.close()
 
 
 @dataclasses.dataclass
 class _RunState:
-    """A run in progress: the tasks in draw order, those finished, and the stopping point."""
+    """A run in progress: the tasks in draw order, those finished, and the stopping point.
+
+    ``checked`` counts the leading tasks the stopping rule has been asked about; when it settles,
+    ``kept`` is that count (the values kept end with the batch at which it settled).
+    """
 
     order: list
     finished: dict = dataclasses.field(default_factory=dict)
+    checked: int = 0
+    kept: int | None = None
     n_used: int | None = None
     interrupted: bool = False
 
     def prefix(self):
-        """Value blocks of the contiguous prefix of finished tasks, in draw order."""
+        """Value blocks of the contiguous prefix of finished tasks, in draw order (up to ``kept``)."""
         blocks = []
-        for task in self.order:
+        for task in self.order[: self.kept]:
             if task not in self.finished:
                 break
             blocks.append(self.finished[task])
         return blocks
 
 
-def _execute(runner, work, rounds, bar, stop, earlier):
-    """Run the rounds, asking `stop` after each; returns the _RunState."""
-    state = _RunState(order=[task for tasks in rounds for task in tasks])
+def _execute(runner, work, tasks, bar, stop, earlier):
+    """Run the tasks, asking `stop` after each batch in draw order; returns the _RunState."""
+    state = _RunState(order=tasks)
     try:
-        for tasks in rounds:
-            for task, values in runner.run(work, tasks):
+        with contextlib.closing(runner.run(work, tasks)) as results:
+            for task, values in results:
                 state.finished[task] = values
                 if bar is not None:
                     bar.update(len(values))
-            if stop is not None:
-                state.n_used = _ask_stop(stop, np.concatenate(earlier + state.prefix()))
-                if state.n_used is not None:
+                if stop is not None and _settled(state, stop, earlier):
                     break
     except KeyboardInterrupt:
         state.interrupted = True
     return state
+
+
+def _settled(state, stop, earlier):
+    """Ask `stop` about each newly completed leading task, in order; True once it settles."""
+    blocks = state.prefix()
+    while state.checked < len(blocks):
+        state.checked += 1
+        state.n_used = _ask_stop(stop, np.concatenate(earlier + blocks[: state.checked]))
+        if state.n_used is not None:
+            state.kept = state.checked
+            return True
+    return False
 
 
 def _ask_stop(stop, values):
@@ -390,8 +402,9 @@ def draw_null(
         terminal, True always, False never.
     stop : callable, optional
         ``stop(values_so_far) -> int | None``, called with all values so far (shape (m, k)) after
-        each round of :data:`BATCHES_PER_ROUND` batches. An int L ends the run: the decision rests
-        on the first L draws (``n_used = L``); the values computed up to the end of the round are kept.
+        each batch, in draw order (each call's values extend the previous call's). An int L ends the
+        run: the decision rests on the first L draws (``n_used = L``); the values up to the end of
+        that batch are kept (batches finished beyond it are dropped).
     previous : NullDraws, optional
         A result to extend: its draws are kept and the new ones continue its stream.
 
@@ -434,7 +447,7 @@ def draw_null(
     work = _TaskFunction(matrix, null, evaluate, root)
     with _one_blas_thread(), _Runner(n_jobs, len(tasks)) as runner:
         with _progress_bar(progress, n_resamples) as bar:
-            state = _execute(runner, work, _rounds(tasks, stop is not None), bar, stop, earlier)
+            state = _execute(runner, work, tasks, bar, stop, earlier)
     run = {"root": root, "batch_size": size, "backend": runner.backend, "null": repr(null),
            "matrix_digest": _digest(matrix), "begin": begin}
     return _assemble(state, earlier, run, previous)

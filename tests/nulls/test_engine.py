@@ -11,7 +11,7 @@ from nullspec._lapack import eigvals, hessenberg_eigvals
 from nullspec.exceptions import InterruptedNullWarning
 from nullspec.nulls import Bootstrap, Gaussian, NullDraws, Permutation, draw_null
 from nullspec.nulls import engine
-from nullspec.nulls.engine import BATCHES_PER_ROUND, default_batch_size
+from nullspec.nulls.engine import default_batch_size
 
 N = 12
 BATCH = 4  # small batches: many tasks, partial batches at the ends
@@ -178,14 +178,13 @@ def test_stop_rule_is_honoured_and_independent_of_n_jobs(matrix, long_reference,
     observed, h = np.median(long_reference.values[:, 0]), 45
     hits = np.flatnonzero(long_reference.values[:, 0] >= observed)
     expected_l = int(hits[h - 1]) + 1  # where the rule settles on the full run
-    round_draws = BATCHES_PER_ROUND * BATCH
-    assert expected_l > round_draws  # the test needs at least two rounds
+    assert expected_l > 8 * BATCH  # the test needs many batches before the stop
     rule = StopAfterHits(observed, h)
     with parallel_config(backend=backend) if backend else parallel_config():
         got = run(matrix, n_resamples=300, n_jobs=n_jobs, stop=rule)
     assert got.n_used == expected_l and got.complete
-    assert len(got.values) == -(-expected_l // round_draws) * round_draws  # up to the round's end
-    assert rule.calls == list(range(round_draws, len(got.values) + 1, round_draws))
+    assert len(got.values) == -(-expected_l // BATCH) * BATCH  # up to the end of the settling batch
+    assert rule.calls == list(range(BATCH, len(got.values) + 1, BATCH))  # after every batch, in order
     np.testing.assert_array_equal(got.values, long_reference.values[: len(got.values)])
 
 
@@ -195,7 +194,7 @@ def test_stop_rule_that_never_stops_runs_everything(matrix, reference):
     assert got.n_used == 30
 
 
-@pytest.mark.parametrize("answer, match", [(0, r"integer >= 1"), (10_000, r"L <= 30"), (2.5, "whole number")])
+@pytest.mark.parametrize("answer, match", [(0, r"integer >= 1"), (10_000, rf"L <= {BATCH}"), (2.5, "whole number")])
 def test_stop_rule_answers_are_checked(matrix, answer, match):
     with pytest.raises(ValueError, match=match):
         run(matrix, stop=lambda values: answer)
