@@ -1,0 +1,124 @@
+"""Saving of sequential (Besag-Clifford) stopping: draws and wall time, stopping on vs off.
+
+:func:`nullspec.spectral_test` with the permutation null, ``n_resamples = 999``, ``alpha = 0.05`` and
+``n_jobs = 2``, run with ``sequential=True`` and ``sequential=False`` on the same matrix and seed, for
+three kinds of synthetic matrices at N = 50 and 100:
+
+- ``null``: i.i.d. Gaussian entries (no structure): every statistic is settled as soon as enough
+  surrogates are as extreme as the data, so stopping should save most of the draws;
+- ``edge_signal``: i.i.d. entries plus a rank-one signal of strength 3 sigma sqrt(N) (the edge
+  statistic far in the tail);
+- ``radial_signal``: i.i.d. entries with row scales drawn from a log-normal law (sd 1; the radial
+  statistic far in the tail).
+
+With a significant statistic the run goes to the full B by design: the rule stops only on the
+non-significant side (an early stop on the significant side would not give valid p-values), and one
+unsettled statistic keeps the run going.
+
+The draw counts are deterministic (a function of the seed); the times depend on the machine, so the
+script waits for idle CPU before each pair (other processes' CPU time is read from /proc) and records
+it. Run from the repository root::
+
+    python benchmarks/bench_sequential.py          # writes benchmarks/results/sequential.json
+"""
+
+import json
+import os
+import platform
+import time
+from pathlib import Path
+
+import numpy as np
+
+import nullspec
+
+RESULTS = Path(__file__).parent / "results" / "sequential.json"
+SIZES = (50, 100)
+MATRICES_PER_KIND = 5
+N_RESAMPLES = 999
+ALPHA = 0.05
+
+
+KINDS = ("null", "edge_signal", "radial_signal")
+
+
+def synthetic(kind, n, rng):
+    """One synthetic matrix of the given kind (module docstring)."""
+    a = rng.standard_normal((n, n))
+    if kind == "edge_signal":
+        u, v = rng.standard_normal(n), rng.standard_normal(n)
+        a += 3.0 * np.sqrt(n) * np.outer(u / np.linalg.norm(u), v / np.linalg.norm(v))
+    if kind == "radial_signal":
+        a *= np.exp(rng.standard_normal(n))[:, None]
+    return a
+
+
+def _busy_ticks():
+    """Busy CPU ticks of the whole machine (Linux /proc/stat), or None elsewhere."""
+    try:
+        fields = Path("/proc/stat").read_text().splitlines()[0].split()[1:]
+    except OSError:
+        return None
+    values = [int(x) for x in fields]
+    return sum(values) - values[3] - values[4]  # minus idle and iowait
+
+
+def wait_for_quiet(max_busy=0.1, patience=120.0):
+    """Wait (at most `patience` s) until the machine's busy share over 1 s is at most `max_busy`."""
+    deadline = time.monotonic() + patience
+    ticks_per_second = os.sysconf("SC_CLK_TCK") * os.cpu_count()
+    while time.monotonic() < deadline:
+        before = _busy_ticks()
+        if before is None:
+            return
+        time.sleep(1.0)
+        if (_busy_ticks() - before) / ticks_per_second <= max_busy:
+            return
+
+
+def timed_test(a, seed, sequential):
+    start = time.perf_counter()
+    res = nullspec.spectral_test(a, null="permutation", n_resamples=N_RESAMPLES, alpha=ALPHA, rng=seed,
+                                 n_jobs=2, progress=False, sequential=sequential)
+    return res, time.perf_counter() - start
+
+
+def pair(kind, n, index):
+    """Stopping on and off on one matrix: draws, seconds and the smallest p-value of each run."""
+    seed = 7919 * n + index
+    a = synthetic(kind, n, np.random.default_rng([seed, len(kind)]))
+    wait_for_quiet()
+    on, t_on = timed_test(a, seed, True)
+    off, t_off = timed_test(a, seed, False)
+    return {
+        "draws_sequential": on.n_resamples, "draws_full": off.n_resamples,
+        "seconds_sequential": t_on, "seconds_full": t_off,
+        "omnibus_p_sequential": float(on.pvalue), "omnibus_p_full": float(off.pvalue),
+    }
+
+
+def summarize(rows):
+    draws = [r["draws_sequential"] / r["draws_full"] for r in rows]
+    seconds = [r["seconds_sequential"] / r["seconds_full"] for r in rows]
+    return {"median_draw_fraction": float(np.median(draws)), "median_time_fraction": float(np.median(seconds)),
+            "min_draw_fraction": float(np.min(draws)), "max_draw_fraction": float(np.max(draws))}
+
+
+def main():
+    out = {"environment": {"cores": os.cpu_count(), "platform": platform.platform(),
+                           "numpy": np.__version__, "nullspec": nullspec.__version__,
+                           "date": time.strftime("%Y-%m-%d %H:%M:%S")},
+           "n_resamples": N_RESAMPLES, "alpha": ALPHA, "n_jobs": 2, "results": {}}
+    for n in SIZES:
+        timed_test(synthetic("null", n, np.random.default_rng(n)), 0, False)  # warm-up: imports, caches, pool
+        for kind in KINDS:
+            rows = [pair(kind, n, i) for i in range(MATRICES_PER_KIND)]
+            out["results"][f"{kind}_n{n}"] = {"rows": rows, **summarize(rows)}
+            print(kind, n, {k: round(v, 3) for k, v in summarize(rows).items()}, flush=True)
+    RESULTS.parent.mkdir(parents=True, exist_ok=True)
+    RESULTS.write_text(json.dumps(out, indent=2, allow_nan=False) + "\n")
+    print(f"wrote {RESULTS}")
+
+
+if __name__ == "__main__":
+    main()
