@@ -6,8 +6,8 @@ three kinds of synthetic matrices at N = 50 and 100:
 
 - ``null``: i.i.d. Gaussian entries (no structure): every statistic is settled as soon as enough
   surrogates are as extreme as the data, so stopping should save most of the draws;
-- ``edge_signal``: i.i.d. entries plus a rank-one signal of strength 3 sigma sqrt(N) (the edge
-  statistic far in the tail);
+- ``edge_signal``: i.i.d. entries plus a rank-one signal ``3 sqrt(N) u u^T / |u|^2`` (an outlier
+  near 3 sigma sqrt(N): the edge statistic far in the tail);
 - ``radial_signal``: i.i.d. entries with row scales drawn from a log-normal law (sd 1; the radial
   statistic far in the tail).
 
@@ -46,8 +46,8 @@ def synthetic(kind, n, rng):
     """One synthetic matrix of the given kind (module docstring)."""
     a = rng.standard_normal((n, n))
     if kind == "edge_signal":
-        u, v = rng.standard_normal(n), rng.standard_normal(n)
-        a += 3.0 * np.sqrt(n) * np.outer(u / np.linalg.norm(u), v / np.linalg.norm(v))
+        u = rng.standard_normal(n)
+        a += 3.0 * np.sqrt(n) * np.outer(u, u) / (u @ u)  # eigenvalue 3 sqrt(N) (u v' would give 3 sqrt(N) u.v)
     if kind == "radial_signal":
         a *= np.exp(rng.standard_normal(n))[:, None]
     return a
