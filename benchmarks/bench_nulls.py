@@ -12,7 +12,10 @@ Statistic: the real count K = #{Im λ == 0} of a permuted matrix (all N² entrie
   default hint (threads) and on loky (warm pool);
 - ``prefer``: the engine on threads vs a warm loky pool vs in-process, for the real count alone and
   for the full pipeline (standardise, spectrum, real_count + radial + edge), at N = 50, 100, 400;
-- the Gaussian null drawn dense vs in Hessenberg form (THEORY.md §9), in-process.
+- the Gaussian null drawn dense vs in Hessenberg form (THEORY.md §9), in-process;
+- ``target``: the issue's ratio (engine, n_jobs = 2, against the limit at N = 100) measured in tight
+  triples (limit, engine, limit: about 1.5 s), four times as many rounds: the machine's speed drifts
+  by up to ±20 % within seconds, and the full throughput round spaces the two by several seconds.
 
 Each round times every method once, interleaved, after waiting (up to a limit) until other
 processes leave the CPU nearly idle. The CPU time other processes take during each timing is read
@@ -54,6 +57,8 @@ CORES = os.cpu_count()
 REPLICATES = {50: 3000, 100: 400, 400: 40}
 THROUGHPUT_SIZES = (100, 400)
 PREFER_SIZES = (50, 100, 400)
+# The target's tight triples are short, so they get this many times the rounds of the others.
+TARGET_ROUNDS_PER_ROUND = 4
 
 
 def real_count(surrogate):
@@ -197,6 +202,17 @@ def throughput_round(n, b, seed):
     return rates
 
 
+def target_round(n, b, seed):
+    """The issue's target in tight triples: single-thread LAPACK, the engine (n_jobs = 2), single-thread
+    again, each under a second, so the machine's speed drifts little between the limit and the engine
+    (the full throughput round spaces them by several seconds of other methods)."""
+    a = np.random.default_rng(seed).standard_normal((n, n))
+    before = one_thread_rate(n, max(b // 4, 10), seed)["lapack"]
+    engine_rate = measured(lambda: engine(a, b, seed, 2), b)
+    after = one_thread_rate(n, max(b // 4, 10), seed + 1)["lapack"]
+    return {"engine_n_jobs_2": engine_rate, "limit": CORES * (before + after) / 2}
+
+
 def prefer_round(n, b, seed):
     """Engine with n_jobs=2 on threads vs a warm loky pool (the `prefer` hint's evidence), for the
     real count alone and for the full pipeline (whose Python parts hold the GIL)."""
@@ -257,15 +273,16 @@ def clean_rounds(measure, n, b, rounds, max_busy, patience):
 
 
 def run(rounds, scale, max_busy, patience):
-    out = {"max_busy": max_busy, "throughput": {}, "prefer": {}, "hessenberg": {}}
-    for kind, sizes, measure in (
-        ("throughput", THROUGHPUT_SIZES, throughput_round),
-        ("prefer", PREFER_SIZES, prefer_round),
-        ("hessenberg", THROUGHPUT_SIZES, hessenberg_round),
+    out = {"max_busy": max_busy, "throughput": {}, "target": {}, "prefer": {}, "hessenberg": {}}
+    for kind, sizes, measure, n_rounds in (
+        ("throughput", THROUGHPUT_SIZES, throughput_round, rounds),
+        ("target", (100,), target_round, TARGET_ROUNDS_PER_ROUND * rounds),
+        ("prefer", PREFER_SIZES, prefer_round, rounds),
+        ("hessenberg", THROUGHPUT_SIZES, hessenberg_round, rounds),
     ):
         for n in sizes:
             b = max(int(REPLICATES[n] * scale), 2 * CORES)
-            clean, others = clean_rounds(measure, n, b, rounds, max_busy, patience)
+            clean, others = clean_rounds(measure, n, b, n_rounds, max_busy, patience)
             if not clean:
                 raise SystemExit(f"{kind} N={n}: no round ran on a quiet machine; try again later")
             out[kind][str(n)] = {"replicates": b, "rounds": clean, "median": medians(clean),
@@ -274,6 +291,10 @@ def run(rounds, scale, max_busy, patience):
                   {k: round(v, 3) for k, v in medians(clean).items()}, flush=True)
     for entry in out["throughput"].values():
         entry.update(summarize_throughput(entry["rounds"]))
+    for entry in out["target"].values():
+        ratios = sorted(r["engine_n_jobs_2"] / r["limit"] for r in entry["rounds"])
+        entry["ratio_to_limit"] = float(np.median(ratios))
+        entry["ratio_to_limit_quartiles"] = [float(np.quantile(ratios, q)) for q in (0.25, 0.75)]
     for entry in out["prefer"].values():
         entry["threads_over_loky"] = {
             label: median_ratio(entry["rounds"], f"{label}_threads", f"{label}_loky_warm")
