@@ -292,7 +292,7 @@ def run(rounds, scale, max_busy, patience):
     for entry in out["throughput"].values():
         entry.update(summarize_throughput(entry["rounds"]))
     for entry in out["target"].values():
-        ratios = sorted(r["engine_n_jobs_2"] / r["limit"] for r in entry["rounds"])
+        ratios = [r["engine_n_jobs_2"] / r["limit"] for r in entry["rounds"]]
         entry["ratio_to_limit"] = float(np.median(ratios))
         entry["ratio_to_limit_quartiles"] = [float(np.quantile(ratios, q)) for q in (0.25, 0.75)]
     for entry in out["prefer"].values():

@@ -16,8 +16,8 @@ non-significant side (an early stop on the significant side would not give valid
 unsettled statistic keeps the run going.
 
 The draw counts are deterministic (a function of the seed); the times depend on the machine, so the
-script waits for idle CPU before each pair (other processes' CPU time is read from /proc) and records
-it. Run from the repository root::
+script waits for idle CPU before each pair (the load guard of ``bench_nulls.py``, read from /proc).
+Run from the repository root::
 
     python benchmarks/bench_sequential.py          # writes benchmarks/results/sequential.json
 """
@@ -31,12 +31,14 @@ from pathlib import Path
 import numpy as np
 
 import nullspec
+from bench_nulls import wait_for_quiet  # this script's folder is on sys.path
 
 RESULTS = Path(__file__).parent / "results" / "sequential.json"
 SIZES = (50, 100)
 MATRICES_PER_KIND = 5
 N_RESAMPLES = 999
 ALPHA = 0.05
+MAX_BUSY, PATIENCE = 0.1, 120.0  # wait (at most PATIENCE s) until other processes use <= MAX_BUSY of the CPU
 
 
 KINDS = ("null", "edge_signal", "radial_signal")
@@ -53,29 +55,6 @@ def synthetic(kind, n, rng):
     return a
 
 
-def _busy_ticks():
-    """Busy CPU ticks of the whole machine (Linux /proc/stat), or None elsewhere."""
-    try:
-        fields = Path("/proc/stat").read_text().splitlines()[0].split()[1:]
-    except OSError:
-        return None
-    values = [int(x) for x in fields]
-    return sum(values) - values[3] - values[4]  # minus idle and iowait
-
-
-def wait_for_quiet(max_busy=0.1, patience=120.0):
-    """Wait (at most `patience` s) until the machine's busy share over 1 s is at most `max_busy`."""
-    deadline = time.monotonic() + patience
-    ticks_per_second = os.sysconf("SC_CLK_TCK") * os.cpu_count()
-    while time.monotonic() < deadline:
-        before = _busy_ticks()
-        if before is None:
-            return
-        time.sleep(1.0)
-        if (_busy_ticks() - before) / ticks_per_second <= max_busy:
-            return
-
-
 def timed_test(a, seed, sequential):
     start = time.perf_counter()
     res = nullspec.spectral_test(a, null="permutation", n_resamples=N_RESAMPLES, alpha=ALPHA, rng=seed,
@@ -87,7 +66,7 @@ def pair(kind, n, index):
     """Stopping on and off on one matrix: draws, seconds and the smallest p-value of each run."""
     seed = 7919 * n + index
     a = synthetic(kind, n, np.random.default_rng([seed, len(kind)]))
-    wait_for_quiet()
+    wait_for_quiet(MAX_BUSY, PATIENCE)
     on, t_on = timed_test(a, seed, True)
     off, t_off = timed_test(a, seed, False)
     return {

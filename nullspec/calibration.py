@@ -794,8 +794,6 @@ def sequential_stop(observed, alternatives, *, alpha, n_resamples, reference=Non
     (5, None)
     """
     columns = _sequential_columns(observed, alternatives, alpha, n_resamples, reference)
-    if reference is not None:  # each draw's omnibus statistic is computed once, on its first call
-        columns[-1] = (_GrowingColumn(reference),) + columns[-1][1:]
 
     def stop(values):
         reaches = [_first_reach(hits, h) for hits, h in _column_hits(columns, values)]
@@ -833,7 +831,8 @@ def _sequential_columns(observed, alternatives, alpha, n_resamples, reference):
         cols += [(j, side, observed[j], h) for side in _sides(alt)]
     if reference is not None:
         t_obs = float(reference(observed[None, :])[0])
-        cols.append((reference, "less", t_obs, exceedance_threshold(alpha, n_resamples, "less")))
+        # each draw's omnibus statistic is computed once, on the first call that sees it
+        cols.append((_GrowingColumn(reference), "less", t_obs, exceedance_threshold(alpha, n_resamples, "less")))
     return cols
 
 

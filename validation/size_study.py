@@ -135,7 +135,7 @@ def size_cell(null, law, n, replications, n_jobs=1):
     }
 
 
-def replications(null, law, n):
+def replications(null, n):
     """R of a configuration (module constants)."""
     if null == "gaussian":
         return R_GAUSSIAN[n]
@@ -151,7 +151,7 @@ def cells():
         for null in NULLS:
             for law in common.LAWS:
                 out.append({"key": key(null, law, n), "null": null, "law": law, "n": n,
-                            "replications": replications(null, law, n)})
+                            "replications": replications(null, n)})
     return out
 
 

@@ -135,15 +135,17 @@ def _size_flags(records):
 
 def _chance_note(records, unexpected):
     """How many unexpected figures chance alone gives: about 1 % of those checked against a 99 % band."""
-    checked = sum(
-        record["expectation"][col][0] != "not guaranteed"
-        for record in records for col in common.COLUMNS for _ in common.ALPHAS
+    checked = len(common.ALPHAS) * sum(
+        record["expectation"][col][0] != "not guaranteed" for record in records for col in common.COLUMNS
     )
+    outside = 1.0 - common.CONFIDENCE
+    most = common.binomial_band(checked, outside)[1]
+    verdict = (f"{unexpected} is within that (at most {most} with 99% probability, were they independent)"
+               if unexpected <= most else f"{unexpected} is more than chance allows (at most {most}): look for a cause")
     return [
-        f"Chance alone puts about 1% of the {checked} figures checked against a 99% band outside it, "
-        f"about {checked / 100:.1f} here even for exact tests (fewer for conservative ones; the figures "
-        f"of one configuration share replications, so they are not independent): {unexpected} is in line "
-        "with that unless a pattern (one null, law or N) shows.",
+        f"Chance alone puts about {outside:.0%} of the {checked} figures checked against a 99% band outside it, "
+        f"about {checked * outside:.1f} here even for exact tests (fewer for conservative ones; the figures "
+        f"of one configuration share replications, so they are not independent): {verdict}.",
         "",
     ]
 
