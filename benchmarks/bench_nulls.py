@@ -14,8 +14,13 @@ Statistic: the real count K = #{Im λ == 0} of a permuted matrix (all N² entrie
   for the full pipeline (standardise, spectrum, real_count + radial + edge), at N = 50, 100, 400;
 - the Gaussian null drawn dense vs in Hessenberg form (THEORY.md §9), in-process;
 - ``target``: the issue's ratio (engine, n_jobs = 2, against the limit at N = 100) measured in tight
-  triples (limit, engine, limit: about 1.5 s), four times as many rounds: the machine's speed drifts
-  by up to ±20 % within seconds, and the full throughput round spaces the two by several seconds.
+  rounds (limit, engine and ``bare``, limit: about 5 s), four times as many rounds, with the
+  library's default number of draws (``spectral_test``'s ``n_resamples``): the machine's speed
+  drifts by up to ±20 % within seconds, and the full throughput round spaces the two by several
+  seconds. ``bare`` does the engine's work with no engine: ``cores`` plain threads, each drawing
+  the same permutations and solving them, with nothing else. It is the best any scheduler can do
+  with this null on this machine, so ``engine / bare`` is the engine's own cost and ``bare / limit``
+  what the machine and the permutation leave of the limit.
 
 Each round times every method once, interleaved, after waiting (up to a limit) until other
 processes leave the CPU nearly idle. The CPU time other processes take during each timing is read
@@ -31,9 +36,11 @@ import argparse
 import collections
 import contextlib
 import functools
+import inspect
 import json
 import os
 import platform
+import threading
 import time
 from pathlib import Path
 
@@ -55,6 +62,8 @@ RESULTS = Path(__file__).parent / "results" / "nulls.json"
 CORES = os.cpu_count()
 # N -> replicates per timing (about 0.5-1 s of work on two cores)
 REPLICATES = {50: 3000, 100: 400, 400: 40}
+# The target's draws: what a user's run takes by default.
+TARGET_REPLICATES = inspect.signature(nullspec.spectral_test).parameters["n_resamples"].default
 THROUGHPUT_SIZES = (100, 400)
 PREFER_SIZES = (50, 100, 400)
 # The target's tight triples are short, so they get this many times the rounds of the others.
@@ -202,15 +211,35 @@ def throughput_round(n, b, seed):
     return rates
 
 
+def bare_threads(a, b, seed):
+    """The engine's work with no engine: CORES plain threads, each drawing `Permutation()`
+    surrogates from its own generator and taking their real count, b draws in all."""
+    null, seeds = Permutation(), np.random.SeedSequence(seed).spawn(CORES)
+
+    def work(seq, count):
+        rng = np.random.default_rng(seq)
+        for _ in range(count):
+            real_count(null.draw(a, rng))
+
+    threads = [threading.Thread(target=work, args=(seq, len(part)))
+               for seq, part in zip(seeds, np.array_split(np.arange(b), CORES))]
+    with threadpool_limits(limits=1, user_api="blas"):
+        for t in threads:
+            t.start()
+        for t in threads:
+            t.join()
+
+
 def target_round(n, b, seed):
-    """The issue's target in tight triples: single-thread LAPACK, the engine (n_jobs = 2), single-thread
-    again, each under a second, so the machine's speed drifts little between the limit and the engine
-    (the full throughput round spaces them by several seconds of other methods)."""
+    """The issue's target in a tight round: single-thread LAPACK, the engine (n_jobs = 2) and the
+    bare threads (in alternating order), single-thread again, so the machine's speed drifts little
+    between the limit and the engine (the full throughput round spaces them by several seconds)."""
     a = np.random.default_rng(seed).standard_normal((n, n))
     before = one_thread_rate(n, max(b // 4, 10), seed)["lapack"]
-    engine_rate = measured(lambda: engine(a, b, seed, 2), b)
+    arms = [("engine_n_jobs_2", lambda: engine(a, b, seed, 2)), ("bare", lambda: bare_threads(a, b, seed))]
+    rates = {name: measured(func, b) for name, func in arms[:: 1 if seed % 2 else -1]}
     after = one_thread_rate(n, max(b // 4, 10), seed + 1)["lapack"]
-    return {"engine_n_jobs_2": engine_rate, "limit": CORES * (before + after) / 2}
+    return {**rates, "limit": CORES * (before + after) / 2}
 
 
 def prefer_round(n, b, seed):
@@ -256,6 +285,18 @@ def summarize_throughput(rounds):
     }
 
 
+def summarize_target(rounds):
+    """Medians and quartiles of the target round's ratios: engine and bare threads to the limit,
+    and the engine to the bare threads."""
+    out = {}
+    for key, num, den in (("ratio_to_limit", "engine_n_jobs_2", "limit"), ("bare_to_limit", "bare", "limit"),
+                          ("engine_to_bare", "engine_n_jobs_2", "bare")):
+        ratios = [r[num] / r[den] for r in rounds]
+        out[key] = float(np.median(ratios))
+        out[f"{key}_quartiles"] = [float(np.quantile(ratios, q)) for q in (0.25, 0.75)]
+    return out
+
+
 def clean_rounds(measure, n, b, rounds, max_busy, patience):
     """Repeat `measure` until `rounds` rounds ran with other processes under `max_busy` of the
     CPU (at most 4 x rounds attempts); returns (clean rounds, all attempts' others shares)."""
@@ -281,7 +322,7 @@ def run(rounds, scale, max_busy, patience):
         ("hessenberg", THROUGHPUT_SIZES, hessenberg_round, rounds),
     ):
         for n in sizes:
-            b = max(int(REPLICATES[n] * scale), 2 * CORES)
+            b = max(int((TARGET_REPLICATES if kind == "target" else REPLICATES[n]) * scale), 2 * CORES)
             clean, others = clean_rounds(measure, n, b, n_rounds, max_busy, patience)
             if not clean:
                 raise SystemExit(f"{kind} N={n}: no round ran on a quiet machine; try again later")
@@ -292,9 +333,7 @@ def run(rounds, scale, max_busy, patience):
     for entry in out["throughput"].values():
         entry.update(summarize_throughput(entry["rounds"]))
     for entry in out["target"].values():
-        ratios = [r["engine_n_jobs_2"] / r["limit"] for r in entry["rounds"]]
-        entry["ratio_to_limit"] = float(np.median(ratios))
-        entry["ratio_to_limit_quartiles"] = [float(np.quantile(ratios, q)) for q in (0.25, 0.75)]
+        entry.update(summarize_target(entry["rounds"]))
     for entry in out["prefer"].values():
         entry["threads_over_loky"] = {
             label: median_ratio(entry["rounds"], f"{label}_threads", f"{label}_loky_warm")
