@@ -5,7 +5,8 @@ For each matrix size ``n`` in 10 ... 10**6 this times, as the median over a few 
 - ``setup_s``: building the cached Gauss-Legendre grid of :mod:`nullspec.ginibre.radial` for ``n``
   (the cache is cleared before each round);
 - ``real_density_s``, ``complex_density_s``: 10**4 points spread over the bulk and the edge;
-- ``expected_outside_s``, ``spectral_radius_sf_s``: 10**4 radii in ``[0, sqrt(n) + 10]`` on a warm grid;
+- ``expected_outside_s``, ``modulus_cdf_s``, ``spectral_radius_sf_s``: 10**4 radii in ``[0, sqrt(n) + 10]``
+  (scaled by ``1/sqrt(n)`` for ``modulus_cdf``) on a warm grid;
 - ``spectral_radius_isf_s``: 10**4 probabilities in ``[1e-20, 0.8]`` on a warm grid.
 
 The machine is shared, so the 1-minute load average is recorded at the start and the end.  Run from
@@ -27,7 +28,9 @@ import numpy as np
 import scipy
 
 import nullspec
-from nullspec.ginibre import complex_density, expected_outside, real_density, spectral_radius_isf, spectral_radius_sf
+from nullspec.ginibre import (
+    complex_density, expected_outside, modulus_cdf, real_density, spectral_radius_isf, spectral_radius_sf,
+)
 from nullspec.ginibre import radial
 
 RESULTS = Path(__file__).parent / "results" / "radial.json"
@@ -67,6 +70,7 @@ def time_size(n, rounds):
     row["real_density_s"] = _median_time(lambda: real_density(radii, n), rounds)
     row["complex_density_s"] = _median_time(lambda: complex_density(z, n), rounds)
     row["expected_outside_s"] = _median_time(lambda: expected_outside(radii, n), rounds)
+    row["modulus_cdf_s"] = _median_time(lambda: modulus_cdf(radii / np.sqrt(n), n), rounds)
     row["spectral_radius_sf_s"] = _median_time(lambda: spectral_radius_sf(radii, n), rounds)
     row["spectral_radius_isf_s"] = _median_time(lambda: spectral_radius_isf(probs, n), rounds)
     return row

@@ -27,9 +27,16 @@ One regime, composite Gauss-Legendre quadrature of f_n:
 - per ``n`` (cached, since callers evaluate many radii at one ``n``): 16-point Gauss-Legendre on panels
   of width 1/8 covering ``[0, sqrt(n) + 20]``, and the cumulative sums of the panel integrals from
   both ends, separately for the real and the non-real part;
-- per radius ``r``: one partial panel from the panel edge below ``r`` (for F) or up to the panel edge
-  above it (for G), plus the cumulative sum on that side.  The tail G is always summed directly,
-  never formed as ``n - F``, so tiny tails keep their relative accuracy;
+- per radius ``r``, for F: the cumulative sum up to the panel edge below ``r`` plus the integral, from
+  that edge to ``r``, of the degree-15 polynomial that interpolates each part at the panel's 16 nodes
+  (kept per ``n`` as the Legendre coefficients of its antiderivative, 272 bytes per panel: 0.26 MB at
+  n = 10**4, 69 MB at the largest n, 10**9).  Integrated over a whole panel
+  that polynomial gives the Gauss-Legendre sum itself, and inside a panel it agrees with a fresh
+  16-point rule on ``[edge, r]`` to rounding (below 2e-16 of ``n`` for n = 2 ... 10**4, tested), at a
+  fraction of the cost: no special function is evaluated per radius;
+- per radius ``r``, for G: a fresh 16-point rule from ``r`` up to the panel edge above it, plus the
+  cumulative tail sum.  The tail G is always summed directly, never formed as ``n - F``, so tiny
+  tails keep their relative accuracy;
 - beyond the grid end the tail is integrated on ``[r, r + 2]`` (the integrand's log-derivative there
   exceeds 20, so the rest is below 1e-17 relative); the same window at the grid end seeds the
   cumulative tail sums.  F beyond the grid is the grid total: the mass left beyond ``sqrt(n) + 20`` is
@@ -85,21 +92,35 @@ def _integrands(s, n):
     return np.stack([real, nonreal])
 
 
+def _panel_nodes(a, b):
+    """Half-widths and Gauss-Legendre nodes of the panels ``[a, b]`` (broadcast arrays)."""
+    half = 0.5 * (b - a)
+    return half, (a + half)[..., None] + half[..., None] * _GL_NODES
+
+
 def _panel_integrals(a, b, n):
     """16-point Gauss-Legendre integrals of both parts over ``[a, b]`` (broadcast arrays)."""
-    half = 0.5 * (b - a)
-    mid = a + half
-    nodes = mid[..., None] + half[..., None] * _GL_NODES
+    half, nodes = _panel_nodes(a, b)
     return half * (_integrands(nodes, n) @ _GL_WEIGHTS)
+
+
+# Legendre coefficients of the polynomial through 16 node values: c_m = (2m + 1)/2 sum_j w_j P_m(x_j) f_j
+# (discrete orthogonality of P_0 ... P_15 under the 16-point rule).
+_NODES_TO_LEGENDRE = (
+    _GL_WEIGHTS[:, None] * np.polynomial.legendre.legvander(_GL_NODES, 15) * (2 * np.arange(16) + 1) / 2
+)
 
 
 @dataclasses.dataclass(frozen=True)
 class _Grid:
-    """Cumulative panel integrals for one ``n``: ``below[:, k]`` = F at edge k, ``above[:, k]`` = G."""
+    """Cumulative panel integrals for one ``n``: ``below[:, k]`` = F at edge k, ``above[:, k]`` = G;
+    ``within[:, :, k]``: Legendre coefficients (17, 2) of each part's antiderivative on panel k, in the
+    panel's coordinate t in [-1, 1], vanishing at t = -1."""
 
     n_panels: int
     below: np.ndarray
     above: np.ndarray
+    within: np.ndarray
 
 
 @functools.lru_cache(maxsize=32)
@@ -107,14 +128,19 @@ def _grid(n):
     """Panel set-up for size ``n`` (cached: callers evaluate many radii at one ``n``)."""
     n_panels = int(np.ceil((np.sqrt(n) + _REACH) / _PANEL))
     edges = np.arange(n_panels + 1) * _PANEL
-    parts = _panel_integrals(edges[:-1], edges[1:], n)
+    half, nodes = _panel_nodes(edges[:-1], edges[1:])
+    values = _integrands(nodes, n)  # (2, panels, 16)
+    parts = half * (values @ _GL_WEIGHTS)
     below = np.concatenate([np.zeros((2, 1)), np.cumsum(parts, axis=1)], axis=1)
     # The tails start from the mass beyond the grid end, so G keeps its relative accuracy up to the end.
     beyond = _far_tail(edges[-1:], n)
     above = np.concatenate([np.cumsum(parts[:, ::-1], axis=1)[:, ::-1] + beyond, beyond], axis=1)
-    below.setflags(write=False)
-    above.setflags(write=False)
-    return _Grid(n_panels, below, above)
+    # d/dr = (1 / half) d/dt, so the antiderivative in r is half times the one in t
+    within = np.polynomial.legendre.legint(np.moveaxis(values @ _NODES_TO_LEGENDRE, -1, 0), lbnd=-1)
+    within = within * half
+    for table in (below, above, within):
+        table.setflags(write=False)
+    return _Grid(n_panels, below, above, within)
 
 
 def _panel_index(r, grid):
@@ -148,7 +174,8 @@ def _within_parts(r, n):
     inside = k < grid.n_panels
     out = np.empty((2,) + r.shape)
     ki = k[inside]
-    out[:, inside] = grid.below[:, ki] + _panel_integrals(ki * _PANEL, r[inside], n)
+    t = 2.0 * (r[inside] - ki * _PANEL) / _PANEL - 1.0  # the panel's coordinate, in [-1, 1)
+    out[:, inside] = grid.below[:, ki] + np.polynomial.legendre.legval(t, grid.within[:, :, ki], tensor=False)
     out[:, ~inside] = grid.below[:, -1:]
     return out
 

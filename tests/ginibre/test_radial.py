@@ -68,6 +68,26 @@ class TestCheckValues:
         assert expected_within(3.0, 20, part="nonreal") == pytest.approx(float(head), rel=1e-13)
 
 
+class TestInsideAPanel:
+    # F(r) between two grid points (panels of width 1/8) comes from the polynomial through the panel's
+    # Gauss-Legendre nodes.  Reference: mpmath quadrature (30 digits) of the radial density from the
+    # panel edge below r to r, against the increase of F over the same interval.  F at the edge is read
+    # just below it (the last point of the panel before), so a wrong offset of the panel's polynomial
+    # cannot cancel.  The subtraction of two values of F ~ n costs ~n eps: absolute tolerance 20 n eps.
+    @pytest.mark.parametrize(("n", "panel"), [(3, 9), (20, 35), (400, 159)])
+    @pytest.mark.parametrize("fraction", [0.003, 0.41, 0.97])
+    def test_increase_from_the_panel_edge(self, n, panel, fraction):
+        edge = panel * 0.125
+        r = edge + 0.125 * fraction
+        with mp.workdps(30):
+            real, _ = MPREF.integrate(MPREF.radial_real, edge, r, n)
+            nonreal, _ = MPREF.integrate(MPREF.radial_nonreal, edge, r, n)
+        tol = 20 * n * np.finfo(float).eps
+        for part, expected in (("real", real), ("nonreal", nonreal), ("all", real + nonreal)):
+            got = expected_within(r, n, part=part) - expected_within(np.nextafter(edge, 0.0), n, part=part)
+            assert got == pytest.approx(float(expected), abs=tol, rel=1e-13), part
+
+
 class TestStoredMpmath:
     @pytest.mark.parametrize("record", JSON["tail_outside"], ids=_record_id)
     @pytest.mark.parametrize("part", PARTS)
