@@ -157,7 +157,8 @@ def standardize(matrix, *, center="mean", scale="sd", diagonal="include"):
         sigma = _scale_value(entries, c, center, scale)
     shift = float(np.mean(np.diag(a)) - c) if diagonal == "shift" else 0.0
     a -= c
-    a[np.diag_indices_from(a)] -= shift
+    if shift:
+        a[np.diag_indices_from(a)] -= shift
     a /= sigma
     a.flags.writeable = False
     return Standardized(a, c, sigma, shift, {"center": center, "scale": scale, "diagonal": diagonal})
