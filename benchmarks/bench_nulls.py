@@ -63,10 +63,10 @@ CORES = os.cpu_count()
 # N -> replicates per timing (about 0.5-1 s of work on two cores)
 REPLICATES = {50: 3000, 100: 400, 400: 40}
 # The target's draws: what a user's run takes by default.
-TARGET_REPLICATES = inspect.signature(nullspec.spectral_test).parameters["n_resamples"].default
+TARGET_REPLICATES = {100: inspect.signature(nullspec.spectral_test).parameters["n_resamples"].default}
 THROUGHPUT_SIZES = (100, 400)
 PREFER_SIZES = (50, 100, 400)
-# The target's tight triples are short, so they get this many times the rounds of the others.
+# The target's tight rounds are short, so they get this many times the rounds of the others.
 TARGET_ROUNDS_PER_ROUND = 4
 
 
@@ -315,14 +315,14 @@ def clean_rounds(measure, n, b, rounds, max_busy, patience):
 
 def run(rounds, scale, max_busy, patience):
     out = {"max_busy": max_busy, "throughput": {}, "target": {}, "prefer": {}, "hessenberg": {}}
-    for kind, sizes, measure, n_rounds in (
-        ("throughput", THROUGHPUT_SIZES, throughput_round, rounds),
-        ("target", (100,), target_round, TARGET_ROUNDS_PER_ROUND * rounds),
-        ("prefer", PREFER_SIZES, prefer_round, rounds),
-        ("hessenberg", THROUGHPUT_SIZES, hessenberg_round, rounds),
+    for kind, sizes, measure, n_rounds, replicates in (
+        ("throughput", THROUGHPUT_SIZES, throughput_round, rounds, REPLICATES),
+        ("target", tuple(TARGET_REPLICATES), target_round, TARGET_ROUNDS_PER_ROUND * rounds, TARGET_REPLICATES),
+        ("prefer", PREFER_SIZES, prefer_round, rounds, REPLICATES),
+        ("hessenberg", THROUGHPUT_SIZES, hessenberg_round, rounds, REPLICATES),
     ):
         for n in sizes:
-            b = max(int((TARGET_REPLICATES if kind == "target" else REPLICATES[n]) * scale), 2 * CORES)
+            b = max(int(replicates[n] * scale), 2 * CORES)
             clean, others = clean_rounds(measure, n, b, n_rounds, max_busy, patience)
             if not clean:
                 raise SystemExit(f"{kind} N={n}: no round ran on a quiet machine; try again later")

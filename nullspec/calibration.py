@@ -357,6 +357,11 @@ def _log_tails(x, quantiles, continued=False):
     return lower, upper
 
 
+def _table_scaled(w2, n):
+    """Radial statistics in the table's units, ``N**SCALE_EXPONENT * W2``."""
+    return np.asarray(w2, dtype=float) * float(n) ** _table().SCALE_EXPONENT
+
+
 def _tail_from_quantiles(x, quantiles, alternative):
     """p-value of scaled statistics ``x`` from quantiles at the table's levels (interpolation in log p).
 
@@ -399,7 +404,7 @@ def radial_table_pvalue(w2, n, alternative="greater"):
     >>> round(float(p), 4), bool(bounded)
     (0.05, False)
     """
-    x = np.asarray(w2, dtype=float) * float(n) ** _table().SCALE_EXPONENT
+    x = _table_scaled(w2, n)
     p, bounded = _tail_from_quantiles(x, _table_row(n), alternative)
     # The p-value moves monotonically with the quantiles, so recomputing it from their lower and upper
     # confidence bounds brackets the table's Monte Carlo error.
@@ -1018,7 +1023,7 @@ def _reference_edge(rho, n, alternative):
 
 
 def _reference_radial(w2, n, alternative):
-    x = np.asarray(w2, dtype=float) * float(n) ** _table().SCALE_EXPONENT
+    x = _table_scaled(w2, n)
     return _combine_log_sides(*_log_tails(x, _table_row(n), continued=True), alternative)
 
 
